@@ -1,0 +1,133 @@
+package main
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+)
+
+// The flag values below check their range when the flag is parsed, so a bad
+// value is a usage error (exit 2) before any work starts.
+
+// floatRange is a float flag restricted to an interval; open ends are
+// excluded.
+type floatRange struct {
+	v          *float64
+	lo, hi     float64
+	loOpen     bool
+	hiOpen     bool
+	set        bool
+	what       string
+	allowUnset bool
+}
+
+func (f *floatRange) String() string {
+	if f.v == nil {
+		return ""
+	}
+	return strconv.FormatFloat(*f.v, 'g', -1, 64)
+}
+
+func (f *floatRange) Set(s string) error {
+	x, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+	if err != nil || math.IsNaN(x) {
+		return fmt.Errorf("%q is not a number", s)
+	}
+	if (f.loOpen && x <= f.lo) || (!f.loOpen && x < f.lo) || (f.hiOpen && x >= f.hi) || (!f.hiOpen && x > f.hi) {
+		return fmt.Errorf("%s must be in %s, got %s", f.what, f.interval(), s)
+	}
+	*f.v = x
+	f.set = true
+	return nil
+}
+
+func (f *floatRange) interval() string {
+	l, r := "[", "]"
+	if f.loOpen {
+		l = "("
+	}
+	if f.hiOpen {
+		r = ")"
+	}
+	return l + fmtBound(f.lo) + ", " + fmtBound(f.hi) + r
+}
+
+func fmtBound(x float64) string {
+	if math.IsInf(x, 1) {
+		return "inf"
+	}
+	return strconv.FormatFloat(x, 'g', -1, 64)
+}
+
+func (f *floatRange) Type() string { return "float" }
+
+// probability is a flag in the open interval (0, 1), such as delta.
+func probability(v *float64, what string) *floatRange {
+	return &floatRange{v: v, lo: 0, hi: 1, loOpen: true, hiOpen: true, what: what}
+}
+
+// positive is a flag in (0, inf).
+func positive(v *float64, what string) *floatRange {
+	return &floatRange{v: v, lo: 0, hi: math.Inf(1), loOpen: true, hiOpen: true, what: what}
+}
+
+// nonNegative is a flag in [0, inf).
+func nonNegative(v *float64, what string) *floatRange {
+	return &floatRange{v: v, lo: 0, hi: math.Inf(1), hiOpen: true, what: what}
+}
+
+// intRange is an int flag restricted to [lo, hi].
+type intRange struct {
+	v      *int
+	lo, hi int
+	what   string
+	set    bool
+}
+
+func (f *intRange) String() string {
+	if f.v == nil {
+		return ""
+	}
+	return strconv.Itoa(*f.v)
+}
+
+func (f *intRange) Set(s string) error {
+	x, err := strconv.Atoi(strings.TrimSpace(s))
+	if err != nil {
+		return fmt.Errorf("%q is not a whole number", s)
+	}
+	if x < f.lo || x > f.hi {
+		return fmt.Errorf("%s must be between %d and %d, got %d", f.what, f.lo, f.hi, x)
+	}
+	*f.v = x
+	f.set = true
+	return nil
+}
+
+func (f *intRange) Type() string { return "int" }
+
+// enum is a flag that takes one word from a fixed list.
+type enum struct {
+	v     *string
+	words []string
+}
+
+func (e *enum) String() string {
+	if e.v == nil {
+		return ""
+	}
+	return *e.v
+}
+
+func (e *enum) Set(s string) error {
+	for _, w := range e.words {
+		if s == w {
+			*e.v = s
+			return nil
+		}
+	}
+	return fmt.Errorf("%q is not one of %s", s, strings.Join(e.words, ", "))
+}
+
+func (e *enum) Type() string { return strings.Join(e.words, "|") }
