@@ -1,0 +1,396 @@
+package voters
+
+import (
+	"cmp"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"slices"
+
+	"surety/datasets"
+)
+
+// PoolConfig sets how BuildPool makes a pool. The zero value means the
+// defaults; each field says its own.
+type PoolConfig struct {
+	// Thresholds is the number of quantile thresholds per numeric column
+	// (before deduplication); 0 means 16.
+	Thresholds int
+	// MaxLevels is the number of levels, the most frequent among the prior
+	// rows, that get stumps in a categorical column; 0 means 32.
+	MaxLevels int
+	// LinearVoters is the number of linear voters; nil means 32, a pointer
+	// to 0 means none.
+	LinearVoters *int
+	// LinearColumns is the number of columns, drawn at random for each
+	// linear voter; 0 means ceil(sqrt(number of usable columns)), and a
+	// value over that number means all of them.
+	LinearColumns int
+	// L2 is the ridge strength of the linear voters (see the package doc);
+	// 0 means 0.01, scikit-learn's default C = 1 on 100 rows.
+	L2 float64
+}
+
+// Defaults of PoolConfig.
+const (
+	DefaultThresholds   = 16
+	DefaultMaxLevels    = 32
+	DefaultLinearVoters = 32
+	DefaultL2           = 0.01
+)
+
+func (c PoolConfig) withDefaults() (PoolConfig, int, error) {
+	if c.Thresholds == 0 {
+		c.Thresholds = DefaultThresholds
+	}
+	if c.MaxLevels == 0 {
+		c.MaxLevels = DefaultMaxLevels
+	}
+	if c.L2 == 0 {
+		c.L2 = DefaultL2
+	}
+	linear := DefaultLinearVoters
+	if c.LinearVoters != nil {
+		linear = *c.LinearVoters
+	}
+	switch {
+	case c.Thresholds < 0:
+		return c, 0, fmt.Errorf("voters: pool config: Thresholds is %d, want >= 0", c.Thresholds)
+	case c.MaxLevels < 0:
+		return c, 0, fmt.Errorf("voters: pool config: MaxLevels is %d, want >= 0", c.MaxLevels)
+	case linear < 0:
+		return c, 0, fmt.Errorf("voters: pool config: LinearVoters is %d, want >= 0", linear)
+	case c.LinearColumns < 0:
+		return c, 0, fmt.Errorf("voters: pool config: LinearColumns is %d, want >= 0", c.LinearColumns)
+	case !(c.L2 > 0) || math.IsInf(c.L2, 1):
+		return c, 0, fmt.Errorf("voters: pool config: L2 is %v, want a finite value > 0", c.L2)
+	}
+	return c, linear, nil
+}
+
+// ColumnSpec names a column a pool reads and its kind.
+type ColumnSpec struct {
+	Name string        `json:"name"`
+	Kind datasets.Kind `json:"kind"`
+}
+
+// Pool is a set of voters built from prior rows, with the class names they
+// predict and the columns they need.
+type Pool struct {
+	Voters  []Voter
+	Classes []string
+	// Schema lists the columns the voters read, in the table's order.
+	Schema []ColumnSpec
+
+	bound *datasets.Table
+}
+
+// BuildPool builds a pool from the prior rows of t only: stumps on every
+// numeric and categorical column, then the linear voters, as the package
+// doc describes. rng draws the linear voters' columns and bootstrap samples.
+func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*Pool, error) {
+	cfg, linear, err := cfg.withDefaults()
+	if err != nil {
+		return nil, err
+	}
+	if err := checkRows(t, rows); err != nil {
+		return nil, fmt.Errorf("voters: build pool: %w", err)
+	}
+	if len(rows) == 0 {
+		return nil, fmt.Errorf("voters: build pool: no prior rows")
+	}
+	if len(t.Classes) < 2 {
+		return nil, fmt.Errorf("voters: build pool: %d classes in %s, want at least 2", len(t.Classes), source(t))
+	}
+	if linear > 0 && rng == nil {
+		return nil, fmt.Errorf("voters: build pool: linear voters need a random source")
+	}
+	p := &Pool{Classes: slices.Clone(t.Classes)}
+	var usable []int
+	for j := range t.Columns {
+		c := &t.Columns[j]
+		before := len(p.Voters)
+		present := false
+		switch c.Kind {
+		case datasets.Numeric:
+			present = p.numericStumps(t, c, rows, cfg.Thresholds)
+		case datasets.Categorical:
+			present = p.categoryStumps(t, c, rows, cfg.MaxLevels)
+		default:
+			return nil, fmt.Errorf("voters: build pool: column %q has unknown kind %d", c.Name, c.Kind)
+		}
+		if present {
+			usable = append(usable, j)
+		}
+		if present || len(p.Voters) > before {
+			p.Schema = append(p.Schema, ColumnSpec{Name: c.Name, Kind: c.Kind})
+		}
+	}
+	if linear > 0 && len(usable) > 0 {
+		width := cfg.LinearColumns
+		if width == 0 {
+			width = int(math.Ceil(math.Sqrt(float64(len(usable)))))
+		}
+		width = min(width, len(usable))
+		sample := make([]int, len(rows))
+		for range linear {
+			perm := rng.Perm(len(usable))[:width]
+			slices.Sort(perm)
+			names := make([]string, width)
+			for i, u := range perm {
+				names[i] = t.Columns[usable[u]].Name
+			}
+			for i := range sample {
+				sample[i] = rows[rng.IntN(len(rows))]
+			}
+			l, err := FitLinear(t, rows, sample, names, cfg.L2)
+			if err != nil {
+				return nil, fmt.Errorf("voters: build pool: %w", err)
+			}
+			p.Voters = append(p.Voters, l)
+		}
+	}
+	if len(p.Voters) == 0 {
+		return nil, fmt.Errorf("voters: build pool: no column of %s splits the %d prior rows", source(t), len(rows))
+	}
+	p.bound = t
+	return p, nil
+}
+
+// sideCounts holds the class counts of the prior rows on each side of a
+// split and of those with the cell missing.
+type sideCounts struct{ low, high, miss []int }
+
+// pairs returns the (low class, high class) pairs of the stumps of one
+// split, deduplicated, in order of class then side.
+func (s sideCounts) pairs() [][2]int {
+	var out [][2]int
+	add := func(lo, hi int) {
+		if lo < 0 || hi < 0 || slices.Contains(out, [2]int{lo, hi}) {
+			return
+		}
+		out = append(out, [2]int{lo, hi})
+	}
+	for c := range s.low {
+		add(c, mostFrequentOther(s.high, c))
+		add(mostFrequentOther(s.low, c), c)
+	}
+	return out
+}
+
+// missingLow reports whether missing cells go to the low side of the stump
+// (lo, hi), by the rule of the package doc.
+func (s sideCounts) missingLow(lo, hi int) bool {
+	if a, b := s.miss[lo], s.miss[hi]; a != b {
+		return a > b
+	}
+	return sum(s.low) >= sum(s.high)
+}
+
+// mostFrequentOther returns the class other than c with the largest count,
+// ties to the lower index.
+func mostFrequentOther(counts []int, c int) int {
+	best := -1
+	for k, n := range counts {
+		if k != c && (best < 0 || n > counts[best]) {
+			best = k
+		}
+	}
+	return best
+}
+
+func sum(xs []int) int {
+	s := 0
+	for _, x := range xs {
+		s += x
+	}
+	return s
+}
+
+// numericStumps appends the stumps of c; it reports whether c has a
+// present value in the prior rows.
+func (p *Pool) numericStumps(t *datasets.Table, c *datasets.Column, rows []int, thresholds int) bool {
+	k := len(t.Classes)
+	type cell struct {
+		v     float64
+		class int
+	}
+	var cells []cell
+	miss := make([]int, k)
+	for _, r := range rows {
+		if v := c.Num[r]; math.IsNaN(v) {
+			miss[t.Label[r]]++
+		} else {
+			cells = append(cells, cell{v, t.Label[r]})
+		}
+	}
+	if len(cells) == 0 {
+		return false
+	}
+	slices.SortFunc(cells, func(a, b cell) int { return cmp.Compare(a.v, b.v) })
+	n := len(cells)
+	maxV := cells[n-1].v
+	var cuts []float64
+	for q := 1; q <= thresholds; q++ {
+		v := cells[(q*n+thresholds)/(thresholds+1)-1].v // the q/(T+1) quantile: index ceil(q n/(T+1)) - 1
+		if v >= maxV || math.IsInf(v, 0) || (len(cuts) > 0 && cuts[len(cuts)-1] == v) {
+			continue
+		}
+		cuts = append(cuts, v)
+	}
+	low := make([]int, k)
+	total := make([]int, k)
+	for _, x := range cells {
+		total[x.class]++
+	}
+	i := 0
+	for _, cut := range cuts {
+		for i < n && cells[i].v <= cut {
+			low[cells[i].class]++
+			i++
+		}
+		high := make([]int, k)
+		for j := range high {
+			high[j] = total[j] - low[j]
+		}
+		s := sideCounts{low: low, high: high, miss: miss}
+		for _, pr := range s.pairs() {
+			p.Voters = append(p.Voters, &Stump{Column: c.Name, Threshold: cut, Below: pr[0], Above: pr[1],
+				MissingBelow: s.missingLow(pr[0], pr[1]), col: c.Num})
+		}
+	}
+	return true
+}
+
+// categoryStumps appends the stumps of c; it reports whether c has a
+// present value in the prior rows.
+func (p *Pool) categoryStumps(t *datasets.Table, c *datasets.Column, rows []int, maxLevels int) bool {
+	k := len(t.Classes)
+	counts := make([][]int, len(c.Levels)) // class counts per level
+	miss := make([]int, k)
+	present := 0
+	for _, r := range rows {
+		code := c.Codes[r]
+		if code == datasets.MissingCode {
+			miss[t.Label[r]]++
+			continue
+		}
+		if counts[code] == nil {
+			counts[code] = make([]int, k)
+		}
+		counts[code][t.Label[r]]++
+		present++
+	}
+	var levels []int
+	for code, cc := range counts {
+		if cc != nil {
+			levels = append(levels, code)
+		}
+	}
+	if len(levels) == 0 {
+		return false
+	}
+	slices.SortStableFunc(levels, func(a, b int) int { return cmp.Compare(sum(counts[b]), sum(counts[a])) })
+	switch {
+	case len(levels) == 1:
+		return true
+	case len(levels) == 2:
+		levels = levels[:1]
+	case len(levels) > maxLevels:
+		levels = levels[:maxLevels]
+	}
+	total := make([]int, k)
+	for _, cc := range counts {
+		for j, n := range cc {
+			total[j] += n
+		}
+	}
+	for _, code := range levels {
+		rest := make([]int, k)
+		for j := range rest {
+			rest[j] = total[j] - counts[code][j]
+		}
+		s := sideCounts{low: counts[code], high: rest, miss: miss}
+		for _, pr := range s.pairs() {
+			p.Voters = append(p.Voters, &CategoryStump{Column: c.Name, Level: c.Levels[code], Equal: pr[0], Other: pr[1],
+				MissingEqual: s.missingLow(pr[0], pr[1]), codes: c.Codes, code: uint32(code)})
+		}
+	}
+	return true
+}
+
+// Bind binds every voter to t, checking first that t has every column of
+// the schema with its kind and that its classes are among the pool's.
+func (p *Pool) Bind(t *datasets.Table) error {
+	if t == nil {
+		return fmt.Errorf("voters: bind pool: no table")
+	}
+	for _, s := range p.Schema {
+		if _, err := lookup(t, s.Name, s.Kind); err != nil {
+			return err
+		}
+	}
+	if _, err := classMap(p.Classes, t); err != nil {
+		return err
+	}
+	if err := checkVoters(p.Voters, len(p.Classes)); err != nil {
+		return err
+	}
+	if err := bindAll(p.Voters, t); err != nil {
+		return err
+	}
+	p.bound = t
+	return nil
+}
+
+func bindAll(vs []Voter, t *datasets.Table) error {
+	for i, v := range vs {
+		if err := v.Bind(t); err != nil {
+			return fmt.Errorf("voters: voter %d (%s): %w", i, v.Kind(), err)
+		}
+	}
+	return nil
+}
+
+// classMap maps t's class indices to indices into classes; it fails when t
+// has a class that classes lacks.
+func classMap(classes []string, t *datasets.Table) ([]int, error) {
+	m := make([]int, len(t.Classes))
+	for i, name := range t.Classes {
+		m[i] = slices.Index(classes, name)
+		if m[i] < 0 {
+			return nil, fmt.Errorf("voters: %s has class %q, which the voters do not know (they know %q)", source(t), name, classes)
+		}
+	}
+	return m, nil
+}
+
+// checkRows checks that t has labels and that every row is in range.
+func checkRows(t *datasets.Table, rows []int) error {
+	if t == nil {
+		return fmt.Errorf("no table")
+	}
+	if len(t.Label) != t.Rows {
+		return fmt.Errorf("%s has %d labels for %d rows", source(t), len(t.Label), t.Rows)
+	}
+	return checkCells(t, rows)
+}
+
+// checkCells checks that every column of t has t.Rows cells and that every
+// row is in range.
+func checkCells(t *datasets.Table, rows []int) error {
+	if t == nil {
+		return fmt.Errorf("no table")
+	}
+	for j := range t.Columns {
+		if n := t.Columns[j].Len(); n != t.Rows {
+			return fmt.Errorf("column %q of %s has %d cells for %d rows", t.Columns[j].Name, source(t), n, t.Rows)
+		}
+	}
+	for _, r := range rows {
+		if r < 0 || r >= t.Rows {
+			return fmt.Errorf("row %d out of range [0, %d) of %s", r, t.Rows, source(t))
+		}
+	}
+	return nil
+}

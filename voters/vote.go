@@ -1,0 +1,234 @@
+package voters
+
+import (
+	"fmt"
+	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
+
+	"surety/datasets"
+)
+
+// Vote is a weighted majority vote: each row gets the class with the
+// largest total weight of the voters that predict it.
+//
+// Ties go to the lower class index, and their margin is 0; Errors counts
+// them as errors. Class totals are sums in a fixed order of the voters, so
+// predictions do not depend on GOMAXPROCS.
+type Vote struct {
+	Voters []Voter
+	// Weights holds one finite weight per voter (usually on the simplex).
+	Weights []float64
+	Classes []string
+}
+
+// Bind checks the vote and binds its voters to t.
+func (v *Vote) Bind(t *datasets.Table) error {
+	if len(v.Weights) != len(v.Voters) {
+		return fmt.Errorf("voters: vote: %d weights for %d voters", len(v.Weights), len(v.Voters))
+	}
+	if len(v.Classes) < 2 {
+		return fmt.Errorf("voters: vote: %d classes, want at least 2", len(v.Classes))
+	}
+	for i, w := range v.Weights {
+		if math.IsNaN(w) || math.IsInf(w, 0) {
+			return fmt.Errorf("voters: vote: weight %d is %v", i, w)
+		}
+	}
+	if err := checkVoters(v.Voters, len(v.Classes)); err != nil {
+		return err
+	}
+	if t == nil {
+		return fmt.Errorf("voters: vote: no table")
+	}
+	return bindAll(v.Voters, t)
+}
+
+// Predict returns the vote's class for each of rows of t, and its margin:
+// the winning class's total weight minus the runner-up's.
+func (v *Vote) Predict(t *datasets.Table, rows []int) (classes []int, margins []float64, err error) {
+	if err := checkCells(t, rows); err != nil {
+		return nil, nil, fmt.Errorf("voters: predict: %w", err)
+	}
+	if err := v.Bind(t); err != nil {
+		return nil, nil, fmt.Errorf("voters: predict: %w", err)
+	}
+	k := len(v.Classes)
+	keep := make([]bool, len(v.Voters))
+	for i, w := range v.Weights {
+		keep[i] = w != 0
+	}
+	pl := newPlan(v.Voters, keep, k, nil)
+	classes = make([]int, len(rows))
+	margins = make([]float64, len(rows))
+	panels := (len(rows) + panelRows - 1) / panelRows
+	workers := max(1, min(runtime.GOMAXPROCS(0), panels))
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Go(func() {
+			s := newScratch(k)
+			ss := &scoreSink{s: s, k: k, w: v.Weights, scores: make([]float64, panelRows*k)}
+			for {
+				i := int(next.Add(1) - 1)
+				if i >= panels {
+					break
+				}
+				lo, hi := i*panelRows, min(len(rows), (i+1)*panelRows)
+				pl.load(s, rows[lo:hi])
+				clear(ss.scores)
+				pl.eval(s, ss)
+				for r := range hi - lo {
+					classes[lo+r], margins[lo+r] = winner(ss.scores[r*k : r*k+k])
+				}
+			}
+		})
+	}
+	wg.Wait()
+	return classes, margins, nil
+}
+
+// winner returns the class of largest score (the lower one on a tie) and
+// its lead over the runner-up.
+func winner(scores []float64) (int, float64) {
+	best := 0
+	for c, s := range scores {
+		if s > scores[best] {
+			best = c
+		}
+	}
+	second := math.Inf(-1)
+	for c, s := range scores {
+		if c != best && s > second {
+			second = s
+		}
+	}
+	return best, scores[best] - second
+}
+
+// Errors returns the number of rows of t the vote gets wrong, ties
+// counted as errors.
+func (v *Vote) Errors(t *datasets.Table, rows []int) (int, error) {
+	if err := checkRows(t, rows); err != nil {
+		return 0, fmt.Errorf("voters: vote errors: %w", err)
+	}
+	labels, err := rowClasses(v.Classes, t)
+	if err != nil {
+		return 0, fmt.Errorf("voters: vote errors: %w", err)
+	}
+	classes, margins, err := v.Predict(t, rows)
+	if err != nil {
+		return 0, err
+	}
+	n := 0
+	for i, r := range rows {
+		if margins[i] == 0 || classes[i] != labels[r] {
+			n++
+		}
+	}
+	return n, nil
+}
+
+// scoreSink adds each voter's weight to the class it predicts.
+type scoreSink struct {
+	s      *scratch
+	k      int
+	w      []float64
+	scores []float64
+}
+
+func (e *scoreSink) split(vi int, low []uint64, lo, hi int) {
+	w, k := e.w[vi], e.k
+	n := len(e.s.rows)
+	for i := range n {
+		c := hi
+		if low[i/64]>>(i%64)&1 != 0 {
+			c = lo
+		}
+		e.scores[i*k+c] += w
+	}
+}
+
+func (e *scoreSink) classes(vi int, pred []int32) {
+	w, k := e.w[vi], e.k
+	for i, c := range pred {
+		e.scores[i*k+int(c)] += w
+	}
+}
+
+// checkVoters checks the fields of voters of this package that could make
+// them misbehave on k classes: class indices out of range, non-finite
+// numbers, linear weights of the wrong shape.
+func checkVoters(vs []Voter, k int) error {
+	for i, v := range vs {
+		if err := checkVoter(v, k); err != nil {
+			return fmt.Errorf("voters: voter %d (%s): %w", i, v.Kind(), err)
+		}
+	}
+	return nil
+}
+
+func checkVoter(v Voter, k int) error {
+	class := func(c int) error {
+		if c < 0 || c >= k {
+			return fmt.Errorf("class %d out of range [0, %d)", c, k)
+		}
+		return nil
+	}
+	finite := func(what string, x float64) error {
+		if math.IsNaN(x) || math.IsInf(x, 0) {
+			return fmt.Errorf("%s is %v", what, x)
+		}
+		return nil
+	}
+	switch v := v.(type) {
+	case nil:
+		return fmt.Errorf("nil voter")
+	case *Stump:
+		if err := class(v.Below); err != nil {
+			return err
+		}
+		if err := class(v.Above); err != nil {
+			return err
+		}
+		return finite("threshold", v.Threshold)
+	case *CategoryStump:
+		if err := class(v.Equal); err != nil {
+			return err
+		}
+		return class(v.Other)
+	case *Linear:
+		d := 0
+		for i := range v.Inputs {
+			in := &v.Inputs[i]
+			if _, err := in.kind(); err != nil {
+				return err
+			}
+			if err := finite("mean of "+in.Column, in.Mean); err != nil {
+				return err
+			}
+			if in.Kind == datasets.Numeric.String() && (!(in.Scale > 0) || math.IsInf(in.Scale, 1)) {
+				return fmt.Errorf("scale of %q is %v, want a finite value > 0", in.Column, in.Scale)
+			}
+			d += in.width()
+		}
+		if len(v.Weights) != k || len(v.Bias) != k {
+			return fmt.Errorf("%d weight rows and %d biases for %d classes", len(v.Weights), len(v.Bias), k)
+		}
+		for c, w := range v.Weights {
+			if len(w) != d {
+				return fmt.Errorf("class %d has %d weights for %d features", c, len(w), d)
+			}
+			for _, x := range w {
+				if err := finite("a weight", x); err != nil {
+					return err
+				}
+			}
+			if err := finite("a bias", v.Bias[c]); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
