@@ -1,0 +1,139 @@
+package voters
+
+import (
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"testing"
+)
+
+func nan() float64 { return math.NaN() }
+
+func TestVoteTies(t *testing.T) {
+	tab := table([]string{"a", "b", "c"}, []int{0, 1, 2, 2}, numCol("x", 1, 2, 3, 4))
+	lowA := &Stump{Column: "x", Threshold: 2.5, Below: 0, Above: 1}
+	lowB := &Stump{Column: "x", Threshold: 2.5, Below: 1, Above: 0}
+	highC := &Stump{Column: "x", Threshold: 3.5, Below: 0, Above: 2}
+	cases := []struct {
+		name       string
+		voters     []Voter
+		weights    []float64
+		wantClass  []int
+		wantMargin []float64
+		wantErrors int
+	}{
+		{
+			name: "two voters disagree everywhere: ties to the lower class", voters: []Voter{lowA, lowB}, weights: []float64{0.5, 0.5},
+			wantClass: []int{0, 0, 0, 0}, wantMargin: []float64{0, 0, 0, 0}, wantErrors: 4,
+		},
+		{
+			name: "a clear winner", voters: []Voter{lowA, lowB, highC}, weights: []float64{0.5, 0.25, 0.25},
+			// x = 1, 2: a 0.5+0.25 (lowA, highC), b 0.25; x = 3: b 0.5 (lowA),
+			// a 0.25+0.25, a tie; x = 4: b 0.5, a 0.25, c 0.25.
+			wantClass: []int{0, 0, 0, 1}, wantMargin: []float64{0.5, 0.5, 0, 0.25}, wantErrors: 3,
+		},
+		{
+			name: "all weights zero: every row a tie", voters: []Voter{lowA, highC}, weights: []float64{0, 0},
+			wantClass: []int{0, 0, 0, 0}, wantMargin: []float64{0, 0, 0, 0}, wantErrors: 4,
+		},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			v := &Vote{Voters: tc.voters, Weights: tc.weights, Classes: tab.Classes}
+			classes, margins, err := v.Predict(tab, allRows(tab))
+			if err != nil {
+				t.Fatal(err)
+			}
+			for i := range classes {
+				if classes[i] != tc.wantClass[i] || margins[i] != tc.wantMargin[i] {
+					t.Fatalf("row %d: class %d margin %v, want %d and %v", i, classes[i], margins[i], tc.wantClass[i], tc.wantMargin[i])
+				}
+			}
+			n, err := v.Errors(tab, allRows(tab))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if n != tc.wantErrors {
+				t.Fatalf("%d errors, want %d", n, tc.wantErrors)
+			}
+		})
+	}
+}
+
+// TestVotePredictMatchesNaive compares the panel prediction with a
+// per-row sum in voter order, at several GOMAXPROCS.
+func TestVotePredictMatchesNaive(t *testing.T) {
+	rng := rand.New(rand.NewPCG(31, 32))
+	tab := randomTable(rng, 9000, 3, 0.05)
+	perm := rng.Perm(tab.Rows)
+	p, err := BuildPool(tab, perm[:2000], PoolConfig{Thresholds: 5}, rand.New(rand.NewPCG(1, 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := make([]float64, len(p.Voters))
+	for i := range w {
+		if rng.IntN(4) > 0 {
+			w[i] = rng.Float64()
+		}
+	}
+	v := &Vote{Voters: p.Voters, Weights: w, Classes: p.Classes}
+	rows := perm[2000:]
+	wantErrs := 0
+	wantClass := make([]int, len(rows))
+	for i, r := range rows {
+		s := make([]float64, 3)
+		for j, vt := range p.Voters {
+			s[vt.Predict(r)] += w[j]
+		}
+		c, margin := winner(s)
+		wantClass[i] = c
+		if margin == 0 || c != tab.Label[r] {
+			wantErrs++
+		}
+	}
+	for _, procs := range []int{1, 2} {
+		old := runtime.GOMAXPROCS(procs)
+		classes, _, err := v.Predict(tab, rows)
+		runtime.GOMAXPROCS(old)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i := range classes {
+			if classes[i] != wantClass[i] {
+				t.Fatalf("GOMAXPROCS=%d row %d: class %d, want %d", procs, rows[i], classes[i], wantClass[i])
+			}
+		}
+	}
+	n, err := v.Errors(tab, rows)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n != wantErrs {
+		t.Fatalf("%d errors, want %d", n, wantErrs)
+	}
+}
+
+func TestVoteErrorsBadInput(t *testing.T) {
+	tab := table([]string{"a", "b"}, []int{0, 1}, numCol("x", 1, 2))
+	s := &Stump{Column: "x", Threshold: 1, Below: 0, Above: 1}
+	cases := []struct {
+		name string
+		v    *Vote
+	}{
+		{"weights and voters differ", &Vote{Voters: []Voter{s}, Weights: []float64{1, 2}, Classes: tab.Classes}},
+		{"NaN weight", &Vote{Voters: []Voter{s}, Weights: []float64{nan()}, Classes: tab.Classes}},
+		{"class out of range", &Vote{Voters: []Voter{&Stump{Column: "x", Below: 0, Above: 5}}, Weights: []float64{1}, Classes: tab.Classes}},
+		{"unknown column", &Vote{Voters: []Voter{&Stump{Column: "y", Below: 0, Above: 1}}, Weights: []float64{1}, Classes: tab.Classes}},
+		{"one class", &Vote{Voters: []Voter{s}, Weights: []float64{1}, Classes: []string{"a"}}},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			if _, err := tc.v.Errors(tab, []int{0, 1}); err == nil {
+				t.Fatal("no error")
+			}
+		})
+	}
+	if _, _, err := (&Vote{Voters: []Voter{s}, Weights: []float64{1}, Classes: tab.Classes}).Predict(tab, []int{2}); err == nil {
+		t.Fatal("a row out of range gave no error")
+	}
+}
