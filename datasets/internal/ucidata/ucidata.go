@@ -1,40 +1,15 @@
-// Package ucidata locates the open UCI datasets that the golearn module ships
-// under examples/datasets, for tests that check Surety against them.
-//
-// The blank import keeps golearn a real dependency of this module, so that
-// `go mod download` (and so a clean CI checkout) brings the files into the
-// module cache.
+// Package ucidata forwards to surety/datasets/ucidata, where the helper
+// moved so that packages outside datasets can use it too.
 package ucidata
 
 import (
-	"os/exec"
-	"path/filepath"
-	"strings"
-	"sync"
 	"testing"
 
-	_ "github.com/sjwhitworth/golearn/utilities"
+	"surety/datasets/ucidata"
 )
 
-const module = "github.com/sjwhitworth/golearn"
-
-var (
-	once sync.Once
-	dir  string
-	err  error
-)
-
-// Path returns the path of the named file in golearn's examples/datasets
-// folder, failing the test when the module cannot be found.
+// Path is ucidata.Path.
 func Path(tb testing.TB, name string) string {
 	tb.Helper()
-	once.Do(func() {
-		var out []byte
-		out, err = exec.Command("go", "list", "-m", "-f", "{{.Dir}}", module).Output()
-		dir = strings.TrimSpace(string(out))
-	})
-	if err != nil || dir == "" {
-		tb.Fatalf("ucidata: cannot locate module %s (run `go mod download`): %v", module, err)
-	}
-	return filepath.Join(dir, "examples", "datasets", name)
+	return ucidata.Path(tb, name)
 }
