@@ -72,6 +72,12 @@ func positive(v *float64, what string) *floatRange {
 	return &floatRange{v: v, lo: 0, hi: math.Inf(1), loOpen: true, hiOpen: true, what: what}
 }
 
+// fraction is a flag in the closed interval [lo, hi] within [0, 1], such
+// as an empirical error rate.
+func fraction(v *float64, lo, hi float64, what string) *floatRange {
+	return &floatRange{v: v, lo: lo, hi: hi, what: what}
+}
+
 // nonNegative is a flag in [0, inf).
 func nonNegative(v *float64, what string) *floatRange {
 	return &floatRange{v: v, lo: 0, hi: math.Inf(1), hiOpen: true, what: what}
@@ -98,6 +104,9 @@ func (f *intRange) Set(s string) error {
 		return fmt.Errorf("%q is not a whole number", s)
 	}
 	if x < f.lo || x > f.hi {
+		if f.hi == math.MaxInt {
+			return fmt.Errorf("%s must be at least %d, got %d", f.what, f.lo, x)
+		}
 		return fmt.Errorf("%s must be between %d and %d, got %d", f.what, f.lo, f.hi, x)
 	}
 	*f.v = x
