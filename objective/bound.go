@@ -286,13 +286,19 @@ func CBoundDisagreement(gibbs, disagreement, kl float64, m int, delta float64) (
 // cbound holds the parts of the certified C-bound.
 type cbound struct{ logXi, e1, e2, rUp, dLo float64 }
 
+// splitBudgets returns the kl budgets of a single quantity (KL) and a
+// pairwise one (2 KL), at delta/2 each, and ln xi(m).
+func splitBudgets(kl float64, m int, delta float64) (single, pair, logXi float64, err error) {
+	if single, logXi, err = pacBudget(1, kl, m, delta/2); err != nil {
+		return 0, 0, 0, err
+	}
+	return single, single + kl/float64(m), logXi, nil
+}
+
 func cboundOf(gibbs, disagreement, kl float64, m int, delta float64) (cbound, error) {
 	var c cbound
 	var err error
-	if c.e1, c.logXi, err = pacBudget(1, kl, m, delta/2); err != nil {
-		return c, err
-	}
-	if c.e2, _, err = pacBudget(2, kl, m, delta/2); err != nil {
+	if c.e1, c.e2, c.logXi, err = splitBudgets(kl, m, delta); err != nil {
 		return c, err
 	}
 	if c.rUp, err = KLInverseUpper(gibbs, c.e1); err != nil {
@@ -347,10 +353,7 @@ type chebyshev struct{ logXi, e1, e2, rLo, tUp, mu, value float64 }
 func chebyshevOf(gibbs, tandem, kl float64, m int, delta float64) (chebyshev, error) {
 	var c chebyshev
 	var err error
-	if c.e1, c.logXi, err = pacBudget(1, kl, m, delta/2); err != nil {
-		return c, err
-	}
-	if c.e2, _, err = pacBudget(2, kl, m, delta/2); err != nil {
+	if c.e1, c.e2, c.logXi, err = splitBudgets(kl, m, delta); err != nil {
 		return c, err
 	}
 	if c.rLo, err = KLInverseLower(gibbs, c.e1); err != nil {

@@ -59,7 +59,11 @@ func checkRate(what string, q float64) error {
 	return nil
 }
 
-func checkBudget(e float64) error {
+// checkInverse validates the arguments of a kl inverse.
+func checkInverse(q, e float64) error {
+	if err := checkRate("empirical rate", q); err != nil {
+		return err
+	}
 	if !(e >= 0) {
 		return fmt.Errorf("objective: kl budget %v is negative or NaN: %w", e, ErrRange)
 	}
@@ -73,10 +77,7 @@ func checkBudget(e float64) error {
 // evaluations (typically 4 to 8). Closed forms: q = 0 gives 1 - exp(-e),
 // e = 0 gives q, e = +Inf gives 1.
 func KLInverseUpper(q, e float64) (float64, error) {
-	if err := checkRate("empirical rate", q); err != nil {
-		return 0, err
-	}
-	if err := checkBudget(e); err != nil {
+	if err := checkInverse(q, e); err != nil {
 		return 0, err
 	}
 	switch {
@@ -102,10 +103,7 @@ func KLInverseUpper(q, e float64) (float64, error) {
 // (the mirror of KLInverseUpper). Closed forms: q = 1 gives exp(-e), e = 0
 // gives q, e = +Inf gives 0.
 func KLInverseLower(q, e float64) (float64, error) {
-	if err := checkRate("empirical rate", q); err != nil {
-		return 0, err
-	}
-	if err := checkBudget(e); err != nil {
+	if err := checkInverse(q, e); err != nil {
 		return 0, err
 	}
 	switch {
