@@ -77,6 +77,12 @@ type Table struct {
 	Rows int
 	// Fingerprint identifies the bytes the table was read from.
 	Fingerprint Fingerprint
+	// DroppedRows counts the rows left out because their label was missing
+	// (ReadOptions.DropMissingLabel).
+	DroppedRows int
+	// DroppedColumns names the columns left out because every cell was
+	// missing, in file order.
+	DroppedColumns []string
 }
 
 // Column returns the index of the named feature column, or -1.
@@ -93,7 +99,10 @@ func (t *Table) Column(name string) int {
 type Fingerprint struct {
 	// SHA256 is the hex digest of the input's bytes exactly as read from
 	// the file or stream (for a gzip file, the compressed bytes).
-	SHA256  string `json:"sha256"`
-	Rows    int    `json:"rows"`
-	Columns int    `json:"columns"`
+	SHA256 string `json:"sha256"`
+	// Rows counts the data records in the input, dropped rows included.
+	Rows int `json:"rows"`
+	// Columns counts the fields of each record in the input, the label,
+	// ignored and dropped columns included.
+	Columns int `json:"columns"`
 }
