@@ -130,7 +130,8 @@ func KLInverseLower(q, e float64) (float64, error) {
 	}
 	lq := math.Log(q)
 	for range 100 {
-		p := math.Exp(u)
+		// exp(ln q) may round an ulp above q; the root is at most q.
+		p := math.Min(math.Exp(u), q)
 		g := BinaryKL(q, p) - e
 		if !(g > 0) {
 			return p, nil
@@ -145,7 +146,7 @@ func KLInverseLower(q, e float64) (float64, error) {
 			break
 		}
 	}
-	return math.Exp(u), nil
+	return math.Min(math.Exp(u), q), nil
 }
 
 // klNewton solves kl(q||p) = e for p in (q, 1), given kl(q||start) >= e.

@@ -179,3 +179,29 @@ func TestKLInverseSlopes(t *testing.T) {
 		}
 	}
 }
+
+// FuzzKLInverse: any pair of floats gives either an ErrRange error or
+// inverses in [0, 1] that bracket q; the iteration caps mean no input can
+// make them loop.
+func FuzzKLInverse(f *testing.F) {
+	for _, s := range [][2]float64{{0, 0}, {1, 1}, {0.5, 1e-300}, {1e-300, 700}, {1 - 1e-16, 1e-3}, {0.3, math.Inf(1)}} {
+		f.Add(s[0], s[1])
+	}
+	f.Fuzz(func(t *testing.T, q, e float64) {
+		up, errUp := KLInverseUpper(q, e)
+		lo, errLo := KLInverseLower(q, e)
+		valid := q >= 0 && q <= 1 && e >= 0
+		if !valid {
+			if !errors.Is(errUp, ErrRange) || !errors.Is(errLo, ErrRange) {
+				t.Fatalf("q=%v e=%v: errors %v, %v, want ErrRange", q, e, errUp, errLo)
+			}
+			return
+		}
+		if errUp != nil || errLo != nil {
+			t.Fatalf("q=%v e=%v: %v, %v", q, e, errUp, errLo)
+		}
+		if !(lo >= 0 && lo <= q && q <= up && up <= 1) {
+			t.Fatalf("q=%v e=%v: lower %v, upper %v", q, e, lo, up)
+		}
+	})
+}
