@@ -1,12 +1,10 @@
-//go:build voters_uci
-
 package voters
 
 import (
 	"testing"
 
 	"surety/datasets"
-	"surety/datasets/internal/ucidata"
+	"surety/datasets/ucidata"
 )
 
 // readUCI reads golearn's copy of a UCI dataset with the datasets reader.
