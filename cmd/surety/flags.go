@@ -13,13 +13,12 @@ import (
 // floatRange is a float flag restricted to an interval; open ends are
 // excluded.
 type floatRange struct {
-	v          *float64
-	lo, hi     float64
-	loOpen     bool
-	hiOpen     bool
-	set        bool
-	what       string
-	allowUnset bool
+	v      *float64
+	lo, hi float64
+	loOpen bool
+	hiOpen bool
+	set    bool
+	what   string
 }
 
 func (f *floatRange) String() string {

@@ -1,0 +1,141 @@
+package trainer
+
+import (
+	"fmt"
+	"math"
+
+	"surety/objective"
+	"surety/voters"
+)
+
+// The certificate families, in the order they are computed and listed.
+const (
+	FamilyFirstOrder = "first-order"
+	FamilyTandem     = "tandem"
+	FamilyCBound     = "c-bound"
+	FamilyChebyshev  = "chebyshev-cantelli"
+	FamilyHoldOut    = "hold-out"
+)
+
+// The two votes a family may certify.
+const (
+	// VotePosterior is the posterior fitted on the certify rows.
+	VotePosterior = "posterior"
+	// VotePriorRows is the vote fitted on the prior rows alone.
+	VotePriorRows = "prior-rows"
+)
+
+// Certificate is the risk certificate of the shipped vote and the ledger of
+// every family computed to get it.
+type Certificate struct {
+	// RiskBound is the bound on the shipped vote's error rate: with
+	// probability at least 1-Delta over the draw of the rows, the vote's
+	// error rate on new rows from the same source is at most RiskBound.
+	RiskBound float64 `json:"risk_bound"`
+	Delta     float64 `json:"delta"`
+	// Family names the family whose bound is RiskBound.
+	Family string `json:"family"`
+	// Vote says which vote that family certifies (and so was shipped).
+	Vote string `json:"vote"`
+	// CertifyRows is m, the number of rows every bound was computed on.
+	CertifyRows int `json:"certify_rows"`
+	// Families is the ledger: each family was computed at Delta divided by
+	// their number, since the smallest is picked after seeing them all.
+	Families []Family `json:"families"`
+}
+
+// Family is one line of the ledger.
+type Family struct {
+	Name string `json:"name"`
+	// Value bounds the error rate of Vote. A family that gives no bound
+	// here has Value 1, which is trivially true, and says why in Reason.
+	Value float64 `json:"value"`
+	// Delta is this family's share of the certificate's delta.
+	Delta  float64 `json:"delta"`
+	Vote   string  `json:"vote"`
+	Reason string  `json:"reason,omitempty"`
+	// Terms is the arithmetic that made Value, to be redone by a reader.
+	Terms *objective.Bound `json:"terms,omitempty"`
+}
+
+// Empirical holds the certify rows' empirical terms of the posterior.
+type Empirical struct {
+	// M is the number of certify rows.
+	M int `json:"certify_rows"`
+	// VoteError is the shipped vote's error rate on the certify rows, ties
+	// counted as errors.
+	VoteError float64 `json:"vote_error"`
+	// PosteriorVoteErrors counts the posterior vote's errors there.
+	PosteriorVoteErrors int `json:"posterior_vote_errors"`
+	// GibbsRisk is r(Q), TandemRisk is t(Q), KL is KL(Q||P).
+	GibbsRisk  float64 `json:"gibbs_risk"`
+	TandemRisk float64 `json:"tandem_risk"`
+	// Disagreement is 2 (r(Q) - t(Q)); binary problems only.
+	Disagreement *float64 `json:"disagreement,omitempty"`
+	KL           float64  `json:"kl"`
+}
+
+func empirical(s *voters.Stats, q, prior []float64, voteErrs int, binary bool) Empirical {
+	e := Empirical{
+		M:                   s.M,
+		VoteError:           float64(voteErrs) / float64(s.M),
+		PosteriorVoteErrors: voteErrs,
+		GibbsRisk:           objective.GibbsRisk(q, s.Risks()),
+		TandemRisk:          objective.TandemRisk(q, s.JointRisks()),
+		KL:                  objective.Divergence(q, prior),
+	}
+	if binary {
+		d := 2 * (e.GibbsRisk - e.TandemRisk)
+		e.Disagreement = &d
+	}
+	return e
+}
+
+// certify computes every family that applies and picks the smallest.
+func certify(delta float64, e Empirical, holdErrs, classes int) (Certificate, error) {
+	type family struct {
+		name, vote string
+		bound      func(d float64) (objective.Bound, error)
+	}
+	fams := []family{
+		{FamilyFirstOrder, VotePosterior, func(d float64) (objective.Bound, error) {
+			return objective.FirstOrderBound(e.GibbsRisk, e.KL, e.M, d)
+		}},
+		{FamilyTandem, VotePosterior, func(d float64) (objective.Bound, error) {
+			return objective.TandemBound(e.TandemRisk, e.KL, e.M, d)
+		}},
+	}
+	if classes == 2 {
+		fams = append(fams, family{FamilyCBound, VotePosterior, func(d float64) (objective.Bound, error) {
+			return objective.CBound(e.GibbsRisk, e.TandemRisk, e.KL, e.M, d)
+		}})
+	}
+	fams = append(fams,
+		family{FamilyChebyshev, VotePosterior, func(d float64) (objective.Bound, error) {
+			return objective.ChebyshevCantelliBound(e.GibbsRisk, e.TandemRisk, e.KL, e.M, d)
+		}},
+		family{FamilyHoldOut, VotePriorRows, func(d float64) (objective.Bound, error) {
+			return objective.TestSetBound(holdErrs, e.M, d)
+		}},
+	)
+	share := delta / float64(len(fams))
+	c := Certificate{Delta: delta, CertifyRows: e.M, RiskBound: math.Inf(1)}
+	for _, f := range fams {
+		line := Family{Name: f.name, Delta: share, Vote: f.vote, Value: 1}
+		b, err := f.bound(share)
+		if err != nil {
+			line.Reason = err.Error()
+		} else {
+			line.Terms = &b
+			line.Value = b.Value
+		}
+		c.Families = append(c.Families, line)
+		if line.Value < c.RiskBound {
+			c.RiskBound, c.Family, c.Vote = line.Value, line.Name, line.Vote
+		}
+	}
+	if c.Family == "" {
+		return c, fmt.Errorf("no family gave a bound")
+	}
+	return c, nil
+}

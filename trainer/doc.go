@@ -1,0 +1,31 @@
+// Package trainer owns the pipeline that turns a table into a certified
+// vote: the seeded, stratified split into prior rows and certify rows, the
+// pool and the prior built on the prior rows only, the statistics counted on
+// the certify rows, the optimisation of the posterior, the certificate with
+// its delta ledger, and the model file.
+//
+// # Honest accounting
+//
+// Every voter (thresholds, linear weights, scaling, categories) and the
+// prior are fixed from the prior rows before a certify row is looked at.
+// The posterior may depend on the certify rows: the kl-based bounds hold for
+// every posterior at once. The certificate is the smallest of several
+// families (first order, tandem, C-bound for two classes, Chebyshev-Cantelli,
+// and a hold-out family that certifies the vote fitted on the prior rows
+// with the binomial test-set bound); since the smallest is chosen after all
+// are seen, each is computed at delta divided by the number of families. m
+// in every bound is the number of certify rows.
+//
+// # Optimiser
+//
+// The posterior is parametrised by softmax logits and fitted with gonum's
+// L-BFGS. Several starting points are tried (the prior, uniform weights,
+// and Gibbs posteriors at a few temperatures) and the best is used; the
+// optimiser keeps the best point it evaluates, so the final value never
+// exceeds any starting point's. The objective depends on the data only
+// through the per-voter error rates and the joint-error matrix, so a step
+// costs O(n^2) for n voters, whatever the number of rows.
+//
+// Parsing flags and printing belong to cmd/surety; everything a library user
+// needs is here and in package voters.
+package trainer

@@ -1,0 +1,300 @@
+package trainer
+
+import (
+	"bytes"
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+
+	"surety/datasets"
+	"surety/voters"
+)
+
+// Version is the tool version recorded in every model file.
+const Version = "0.1.0"
+
+// ModelFormat is the version of the model file layout this package writes
+// and the only one it reads.
+const ModelFormat = 1
+
+// Model is a trained vote with its certificate and provenance: what a model
+// file holds.
+type Model struct {
+	Format      int
+	ToolVersion string
+	// Label is the label column's name in the training file.
+	Label string
+	// Classes are the class names, sorted.
+	Classes []string
+	// Columns is the schema the vote expects of a file to predict on.
+	Columns []ColumnSpec
+	// Vote is the shipped vote: the voters of the whole pool and their
+	// weights (a point on the simplex).
+	Vote        *voters.Vote
+	Certificate Certificate
+	Empirical   Empirical
+	Provenance  Provenance
+}
+
+// ColumnSpec is one column the vote reads.
+type ColumnSpec struct {
+	Name string `json:"name"`
+	Kind string `json:"kind"`
+}
+
+// Provenance says where the model came from, so a reader can redo the work.
+type Provenance struct {
+	Data          datasets.Fingerprint `json:"data"`
+	Source        string               `json:"source"`
+	Seed          uint64               `json:"seed"`
+	Rows          int                  `json:"rows"`
+	PriorRows     int                  `json:"prior_rows"`
+	CertifyRows   int                  `json:"certify_rows"`
+	PoolSize      int                  `json:"pool_size"`
+	Objective     Objective            `json:"objective"`
+	Tradeoff      float64              `json:"tradeoff"`
+	Prior         PriorKind            `json:"prior"`
+	PriorMix      float64              `json:"prior_mix"`
+	PriorFraction float64              `json:"prior_fraction"`
+	Pool          voters.PoolConfig    `json:"pool"`
+	Optimizer     OptimizerResult      `json:"optimizer"`
+}
+
+// modelFile is the JSON layout of a model file.
+type modelFile struct {
+	Format      int             `json:"surety_model_format"`
+	ToolVersion string          `json:"tool_version"`
+	Label       string          `json:"label"`
+	Classes     []string        `json:"classes"`
+	Columns     []ColumnSpec    `json:"columns"`
+	Certificate Certificate     `json:"certificate"`
+	Empirical   Empirical       `json:"empirical"`
+	Provenance  Provenance      `json:"provenance"`
+	Weights     []float64       `json:"weights"`
+	Voters      json.RawMessage `json:"voters"`
+}
+
+// MarshalJSON writes the model file layout.
+func (m *Model) MarshalJSON() ([]byte, error) {
+	vs, err := voters.MarshalVoters(m.Vote.Voters)
+	if err != nil {
+		return nil, err
+	}
+	return json.Marshal(modelFile{
+		Format:      m.Format,
+		ToolVersion: m.ToolVersion,
+		Label:       m.Label,
+		Classes:     m.Classes,
+		Columns:     m.Columns,
+		Certificate: m.Certificate,
+		Empirical:   m.Empirical,
+		Provenance:  m.Provenance,
+		Weights:     m.Vote.Weights,
+		Voters:      vs,
+	})
+}
+
+// WriteModel writes m to path atomically: it writes a temporary file in the
+// same folder, syncs it and renames it over path, so an interrupted run
+// leaves any earlier file at path intact.
+func WriteModel(path string, m *Model) error {
+	b, err := json.MarshalIndent(m, "", "  ")
+	if err != nil {
+		return fmt.Errorf("trainer: encoding model: %w", err)
+	}
+	b = append(b, '\n')
+	return WriteFileAtomic(path, b)
+}
+
+// WriteFileAtomic writes data to path through a temporary file in the same
+// folder and a rename.
+func WriteFileAtomic(path string, data []byte) error {
+	dir := filepath.Dir(path)
+	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
+	if err != nil {
+		return fmt.Errorf("trainer: %w", err)
+	}
+	tmp := f.Name()
+	fail := func(err error) error {
+		f.Close()
+		os.Remove(tmp)
+		return fmt.Errorf("trainer: writing %s: %w", path, err)
+	}
+	if _, err := f.Write(data); err != nil {
+		return fail(err)
+	}
+	if err := f.Sync(); err != nil {
+		return fail(err)
+	}
+	if err := f.Chmod(0o644); err != nil {
+		return fail(err)
+	}
+	if err := f.Close(); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("trainer: writing %s: %w", path, err)
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		os.Remove(tmp)
+		return fmt.Errorf("trainer: writing %s: %w", path, err)
+	}
+	return nil
+}
+
+// ReadModelFile reads and validates a model file.
+func ReadModelFile(path string) (*Model, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("trainer: %w", err)
+	}
+	m, err := DecodeModel(bytes.NewReader(b))
+	if err != nil {
+		return nil, fmt.Errorf("trainer: %s: %w", path, err)
+	}
+	return m, nil
+}
+
+// simplexTolerance is how far from 1 the weights may sum in a model file
+// (rounding in the JSON decimal form stays far below it).
+const simplexTolerance = 1e-9
+
+// DecodeModel reads and validates a model from r: the format version, the
+// weights on the simplex, and every voter reading a column of the schema.
+func DecodeModel(r io.Reader) (*Model, error) {
+	dec := json.NewDecoder(r)
+	dec.DisallowUnknownFields()
+	var f modelFile
+	if err := dec.Decode(&f); err != nil {
+		return nil, fmt.Errorf("not a model file: %w", err)
+	}
+	if f.Format != ModelFormat {
+		return nil, fmt.Errorf("model format %d is not supported (this is version %s, which reads format %d)", f.Format, Version, ModelFormat)
+	}
+	if len(f.Classes) < 2 {
+		return nil, fmt.Errorf("the model has %d classes, want at least 2", len(f.Classes))
+	}
+	vs, err := voters.UnmarshalVoters(f.Voters)
+	if err != nil {
+		return nil, err
+	}
+	if len(vs) == 0 || len(vs) != len(f.Weights) {
+		return nil, fmt.Errorf("the model has %d voters and %d weights", len(vs), len(f.Weights))
+	}
+	var sum float64
+	for i, w := range f.Weights {
+		if !(w >= 0) || math.IsInf(w, 0) {
+			return nil, fmt.Errorf("weight %d is %v: the weights are not on the simplex", i, w)
+		}
+		sum += w
+	}
+	if math.Abs(sum-1) > simplexTolerance {
+		return nil, fmt.Errorf("the weights sum to %v, not 1: they are not on the simplex", sum)
+	}
+	known := map[string]bool{}
+	for _, c := range f.Columns {
+		if c.Kind != datasets.Numeric.String() && c.Kind != datasets.Categorical.String() {
+			return nil, fmt.Errorf("column %q has unknown kind %q", c.Name, c.Kind)
+		}
+		known[c.Name] = true
+	}
+	for i, v := range vs {
+		for _, c := range v.Columns() {
+			if !known[c] {
+				return nil, fmt.Errorf("voter %d reads column %q, which is not in the model's schema", i, c)
+			}
+		}
+	}
+	return &Model{
+		Format:      f.Format,
+		ToolVersion: f.ToolVersion,
+		Label:       f.Label,
+		Classes:     f.Classes,
+		Columns:     f.Columns,
+		Vote:        &voters.Vote{Voters: vs, Weights: f.Weights, Classes: f.Classes},
+		Certificate: f.Certificate,
+		Empirical:   f.Empirical,
+		Provenance:  f.Provenance,
+	}, nil
+}
+
+// schemaOf lists the columns the pool reads, in table order.
+func schemaOf(p *voters.Pool) []ColumnSpec {
+	cols := make([]ColumnSpec, len(p.Schema))
+	for i, c := range p.Schema {
+		cols[i] = ColumnSpec{Name: c.Name, Kind: c.Kind.String()}
+	}
+	return cols
+}
+
+// ReadOptions returns the options that read a file for this model: the
+// expected columns forced to their kinds, no label required, the rest of
+// the file's columns read as they come (and ignored by the vote).
+func (m *Model) ReadOptions() datasets.ReadOptions {
+	kinds := map[string]datasets.Kind{}
+	for _, c := range m.Columns {
+		if c.Kind == datasets.Categorical.String() {
+			kinds[c.Name] = datasets.Categorical
+		} else {
+			kinds[c.Name] = datasets.Numeric
+		}
+	}
+	return datasets.ReadOptions{NoLabel: true, Kinds: kinds}
+}
+
+// Predict returns the vote's class and margin for every row of t, in order.
+// Every column of the model's schema must be in t.
+func (m *Model) Predict(t *datasets.Table) ([]int, []float64, error) {
+	for _, c := range m.Columns {
+		if t.Column(c.Name) < 0 {
+			return nil, nil, fmt.Errorf("trainer: %s: the model needs column %q, which the file lacks", t.Source, c.Name)
+		}
+	}
+	if err := m.Vote.Bind(t); err != nil {
+		return nil, nil, fmt.Errorf("trainer: %s: %w", t.Source, err)
+	}
+	rows := make([]int, t.Rows)
+	for i := range rows {
+		rows[i] = i
+	}
+	cls, margins, err := m.Vote.Predict(t, rows)
+	if err != nil {
+		return nil, nil, fmt.Errorf("trainer: %s: %w", t.Source, err)
+	}
+	return cls, margins, nil
+}
+
+// CountErrors predicts every row of a labelled table t and counts the
+// vote's errors, ties counted as errors. Class names are matched by name,
+// so t may hold a subset of the model's classes; a class the model does not
+// know is an error.
+func (m *Model) CountErrors(t *datasets.Table) (int, error) {
+	if t.Label == nil {
+		return 0, fmt.Errorf("trainer: %s: the table has no label column", t.Source)
+	}
+	toModel := make([]int, len(t.Classes))
+	for i, name := range t.Classes {
+		toModel[i] = -1
+		for j, mc := range m.Classes {
+			if mc == name {
+				toModel[i] = j
+			}
+		}
+		if toModel[i] < 0 {
+			return 0, fmt.Errorf("trainer: %s: class %q of column %q is not one of the model's classes %v", t.Source, name, t.LabelName, m.Classes)
+		}
+	}
+	cls, margins, err := m.Predict(t)
+	if err != nil {
+		return 0, err
+	}
+	errs := 0
+	for i, c := range cls {
+		// A zero margin is a tie, which counts as an error.
+		if c != toModel[t.Label[i]] || margins[i] <= 0 {
+			errs++
+		}
+	}
+	return errs, nil
+}
