@@ -1,0 +1,90 @@
+package main
+
+import (
+	"fmt"
+	"os"
+	"strings"
+
+	"github.com/spf13/pflag"
+
+	"surety/datasets"
+)
+
+// dataFlags are the flags that say how to read a CSV file, shared by every
+// command that reads one.
+type dataFlags struct {
+	path             string
+	label            string
+	noHeader         bool
+	delimiter        string
+	missing          []string
+	categorical      []string
+	ignore           []string
+	dropMissingLabel bool
+}
+
+func (d *dataFlags) AddFlags(fs *pflag.FlagSet, withLabel bool) {
+	fs.StringVar(&d.path, "data", "", "CSV `file` to read (plain or gzip; - for standard input)")
+	if withLabel {
+		fs.StringVar(&d.label, "label", "", "label column `name` (default: the column named \"label\")")
+		fs.BoolVar(&d.dropMissingLabel, "drop-missing-label", false, "drop rows whose label is missing instead of failing")
+	}
+	fs.BoolVar(&d.noHeader, "no-header", false, "the file has no header row; columns are named c1..cN")
+	fs.StringVar(&d.delimiter, "delimiter", "", "field delimiter: one of , ; | or \"tab\" (default: detected from the first line)")
+	fs.StringSliceVar(&d.missing, "missing", nil, "cell `values` that mean missing (default: empty, NA, N/A, NaN, null, ?)")
+	fs.StringSliceVar(&d.categorical, "categorical", nil, "read these `columns` as categories even if they hold numbers")
+	fs.StringSliceVar(&d.ignore, "ignore", nil, "leave these `columns` out")
+}
+
+// options turns the flags into reader options; base carries what the
+// command itself needs (for example a model's schema).
+func (d *dataFlags) options(base datasets.ReadOptions, warn func(string)) (datasets.ReadOptions, error) {
+	o := base
+	o.NoHeader = d.noHeader
+	if d.label != "" {
+		o.Label = d.label
+	}
+	o.DropMissingLabel = d.dropMissingLabel
+	if d.missing != nil {
+		o.MissingTokens = d.missing
+	}
+	o.Categorical = append(o.Categorical, d.categorical...)
+	o.Ignore = append(o.Ignore, d.ignore...)
+	o.Warn = warn
+	switch strings.ToLower(d.delimiter) {
+	case "":
+	case ",", ";", "|":
+		o.Delimiter = rune(d.delimiter[0])
+	case "tab", "\t":
+		o.Delimiter = '\t'
+	default:
+		return o, usagef("--delimiter must be one of , ; | tab, got %q", d.delimiter)
+	}
+	return o, nil
+}
+
+// read reads the table named by --data.
+func (d *dataFlags) read(e *env, base datasets.ReadOptions) (*datasets.Table, error) {
+	if d.path == "" {
+		return nil, usagef("--data is required")
+	}
+	o, err := d.options(base, func(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) })
+	if err != nil {
+		return nil, err
+	}
+	if d.path != "-" {
+		fi, err := os.Stat(d.path)
+		if err != nil {
+			return nil, err
+		}
+		if fi.IsDir() {
+			return nil, fmt.Errorf("%s is a folder, not a file", d.path)
+		}
+	}
+	stop := e.spinner("reading " + d.path)
+	defer stop()
+	if d.path == "-" {
+		return datasets.Read(e.stdin, "-", o)
+	}
+	return datasets.ReadFile(d.path, o)
+}

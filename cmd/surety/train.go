@@ -1,0 +1,228 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+
+	"github.com/spf13/pflag"
+
+	"surety/datasets"
+	"surety/trainer"
+	"surety/voters"
+)
+
+func init() {
+	register("train", "--data FILE [--label COL] [flags]",
+		"Train a weighted vote on a CSV file and certify its error rate.",
+		func() command { return &trainOptions{} })
+}
+
+type trainOptions struct {
+	data          dataFlags
+	objective     string
+	tradeoff      float64
+	delta         float64
+	priorFraction float64
+	prior         string
+	seed          uint64
+	thresholds    int
+	linearVoters  int
+	out           string
+	json          bool
+}
+
+var objectiveWords = []string{"linear", "cbound", "tandem", "kl"}
+
+func (o *trainOptions) AddFlags(fs *pflag.FlagSet) {
+	o.data.AddFlags(fs, true)
+	o.objective = string(trainer.Tandem)
+	fs.Var(&enum{&o.objective, objectiveWords}, "objective", "bound the weights are fitted to: linear (Catoni's trade-off), cbound (two classes), tandem, or kl (first order)")
+	o.tradeoff = 1
+	fs.Var(positive(&o.tradeoff, "--tradeoff"), "tradeoff", "C in the linear objective C m r(Q) + KL(Q||P)")
+	o.delta = 0.05
+	fs.Var(probability(&o.delta, "--delta"), "delta", "probability that the certificate is wrong, in (0, 1)")
+	o.priorFraction = 0.5
+	fs.Var(&floatRange{v: &o.priorFraction, lo: 0, hi: 1, hiOpen: true, what: "--prior-fraction"}, "prior-fraction", "share of rows that build the pool and the prior, in [0, 1); the rest certify")
+	o.prior = string(trainer.LearnedPrior)
+	fs.Var(&enum{&o.prior, []string{"learned", "uniform"}}, "prior", "prior over the pool: learned (fitted on the prior rows) or uniform")
+	fs.Uint64Var(&o.seed, "seed", 1, "seed of the split and of the pool's random choices")
+	o.thresholds = 16
+	fs.Var(&intRange{v: &o.thresholds, lo: 1, hi: 1 << 16, what: "--thresholds"}, "thresholds", "stump thresholds per numeric column (quantiles of the prior rows)")
+	o.linearVoters = 32
+	fs.Var(&intRange{v: &o.linearVoters, lo: 0, hi: 1 << 16, what: "--linear-voters"}, "linear-voters", "number of logistic-regression voters (0 for none)")
+	fs.StringVar(&o.out, "out", "model.json", "model `file` to write")
+	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of text")
+}
+
+// config turns the flags into a trainer configuration.
+func (o *trainOptions) config() (trainer.Config, error) {
+	if o.priorFraction == 0 {
+		return trainer.Config{}, errors.New("--prior-fraction 0 is not possible: the stumps' thresholds, the linear voters and the learned prior are all built from the prior rows, so no pool is free of the data; use a fraction in (0, 1)")
+	}
+	return trainer.Config{
+		Objective:     trainer.Objective(o.objective),
+		Tradeoff:      o.tradeoff,
+		Delta:         o.delta,
+		PriorFraction: o.priorFraction,
+		Prior:         trainer.PriorKind(o.prior),
+		Seed:          o.seed,
+		Pool:          poolConfig(o.thresholds, o.linearVoters),
+	}, nil
+}
+
+func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
+	if len(args) > 0 {
+		return usagef("unexpected argument %q", args[0])
+	}
+	cfg, err := o.config()
+	if err != nil {
+		return err
+	}
+	t, err := o.data.read(e, datasets.ReadOptions{})
+	if err != nil {
+		return err
+	}
+	m, err := trainWithProgress(ctx, e, t, cfg)
+	if err != nil {
+		return err
+	}
+	if err := trainer.WriteModel(o.out, m); err != nil {
+		return err
+	}
+	if o.json {
+		return writeJSON(e.stdout, trainReport(t, m, o.out))
+	}
+	printTrain(e.stdout, t, m, o.out)
+	return nil
+}
+
+func trainWithProgress(ctx context.Context, e *env, t *datasets.Table, cfg trainer.Config) (*trainer.Model, error) {
+	show, stop := e.stages()
+	cfg.Progress = show
+	defer stop()
+	return trainer.Train(ctx, t, cfg)
+}
+
+// trainJSON is the --json output of train; its keys are documented in the
+// README.
+type trainJSON struct {
+	Certificate trainer.Certificate     `json:"certificate"`
+	Statement   string                  `json:"statement"`
+	Empirical   trainer.Empirical       `json:"empirical"`
+	Data        dataJSON                `json:"data"`
+	Split       splitJSON               `json:"split"`
+	PoolSize    int                     `json:"pool_size"`
+	Optimizer   trainer.OptimizerResult `json:"optimizer"`
+	ModelPath   string                  `json:"model_path"`
+	Cautions    []string                `json:"cautions"`
+}
+
+type dataJSON struct {
+	Source      string               `json:"source"`
+	Rows        int                  `json:"rows"`
+	Columns     int                  `json:"feature_columns"`
+	Label       string               `json:"label"`
+	Classes     []string             `json:"classes"`
+	Fingerprint datasets.Fingerprint `json:"fingerprint"`
+}
+
+type splitJSON struct {
+	Seed        uint64 `json:"seed"`
+	PriorRows   int    `json:"prior_rows"`
+	CertifyRows int    `json:"certify_rows"`
+}
+
+func trainReport(t *datasets.Table, m *trainer.Model, path string) trainJSON {
+	return trainJSON{
+		Certificate: m.Certificate,
+		Statement:   m.Certificate.Sentence(),
+		Empirical:   m.Empirical,
+		Data: dataJSON{Source: t.Source, Rows: t.Rows, Columns: len(t.Columns), Label: t.LabelName,
+			Classes: t.Classes, Fingerprint: t.Fingerprint},
+		Split:     splitJSON{Seed: m.Provenance.Seed, PriorRows: m.Provenance.PriorRows, CertifyRows: m.Provenance.CertifyRows},
+		PoolSize:  m.Provenance.PoolSize,
+		Optimizer: m.Provenance.Optimizer,
+		ModelPath: path,
+		Cautions:  trainer.Cautions,
+	}
+}
+
+func writeJSON(w io.Writer, v any) error {
+	b, err := json.MarshalIndent(v, "", "  ")
+	if err != nil {
+		return err
+	}
+	_, err = fmt.Fprintf(w, "%s\n", b)
+	return err
+}
+
+func printTrain(w io.Writer, t *datasets.Table, m *trainer.Model, path string) {
+	num, cat := 0, 0
+	for _, c := range t.Columns {
+		if c.Kind == datasets.Numeric {
+			num++
+		} else {
+			cat++
+		}
+	}
+	p := m.Provenance
+	fmt.Fprintf(w, "data       %s: %d rows, %d feature columns (%d numeric, %d categorical), label %q with %d classes\n",
+		t.Source, t.Rows, len(t.Columns), num, cat, t.LabelName, len(t.Classes))
+	fmt.Fprintf(w, "split      %d prior rows build the pool and the prior, %d certify rows (seed %d)\n", p.PriorRows, p.CertifyRows, p.Seed)
+	fmt.Fprintf(w, "pool       %d voters\n", p.PoolSize)
+	fmt.Fprintf(w, "optimiser  %s objective from the %s start: %d iterations, %s, value %.6g\n",
+		p.Objective, p.Optimizer.Start, p.Optimizer.Iterations, p.Optimizer.Status, p.Optimizer.Value)
+	fmt.Fprintln(w)
+	printCertificate(w, m)
+	fmt.Fprintf(w, "\nmodel written to %s\n", path)
+	fmt.Fprintln(w)
+	printCautions(w)
+}
+
+func printCertificate(w io.Writer, m *trainer.Model) {
+	c := m.Certificate
+	fmt.Fprintln(w, c.Sentence())
+	fmt.Fprintf(w, "\nledger: delta %g split over %d families (the smallest bound is kept), m = %d certify rows, KL(Q||P) = %.4f\n",
+		c.Delta, len(c.Families), c.CertifyRows, m.Empirical.KL)
+	fmt.Fprintf(w, "  %-20s %-11s %-10s %s\n", "family", "vote", "delta", "bound")
+	for _, f := range c.Families {
+		mark := ""
+		if f.Name == c.Family {
+			mark = "  <- certificate"
+		}
+		val := fmt.Sprintf("%.4f", f.Value)
+		if f.Reason != "" {
+			val = "none: " + f.Reason
+		}
+		fmt.Fprintf(w, "  %-20s %-11s %-10.4g %s%s\n", f.Name, f.Vote, f.Delta, val, mark)
+	}
+	em := m.Empirical
+	fmt.Fprintf(w, "empirical on the certify rows: vote error %s, Gibbs risk %.4f, tandem risk %.4f",
+		pct(em.VoteError), em.GibbsRisk, em.TandemRisk)
+	if em.Disagreement != nil {
+		fmt.Fprintf(w, ", disagreement %.4f", *em.Disagreement)
+	}
+	fmt.Fprintln(w)
+}
+
+func pct(x float64) string {
+	if math.IsNaN(x) {
+		return "n/a"
+	}
+	return fmt.Sprintf("%.2f%%", 100*x)
+}
+
+func printCautions(w io.Writer) {
+	fmt.Fprintln(w, "cautions:")
+	for _, c := range trainer.Cautions {
+		fmt.Fprintf(w, "- %s\n", c)
+	}
+}
+
+func poolConfig(thresholds, linear int) voters.PoolConfig {
+	return voters.PoolConfig{Thresholds: thresholds, LinearVoters: &linear}
+}
