@@ -71,10 +71,7 @@ func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
 	}
 
 	stage("optimise")
-	uniform := make([]float64, n)
-	for i := range uniform {
-		uniform[i] = 1 / float64(n)
-	}
+	uniform := uniformWeights(n)
 	// The prior-rows fit: the objective on the prior rows' statistics with a
 	// uniform prior. It is the hold-out family's vote, and (mixed with
 	// uniform weight) the learned prior. Nothing here sees a certify row.
@@ -164,12 +161,7 @@ func problemFor(cfg Config, s *voters.Stats, prior []float64) objective.Problem 
 
 // fit minimises the configured objective on s with the given prior.
 func fit(cfg Config, s *voters.Stats, prior []float64) ([]float64, OptimizerResult, error) {
-	n := len(prior)
-	uniform := make([]float64, n)
-	for i := range uniform {
-		uniform[i] = 1 / float64(n)
-	}
-	starts := []startPoint{{"prior", prior}, {"uniform", uniform}}
+	starts := []startPoint{{"prior", prior}, {"uniform", uniformWeights(len(prior))}}
 	// Gibbs posteriors over a grid of temperatures around the configured
 	// trade-off: cheap, closed-form, and often close to a bound's optimum.
 	risks := s.Risks()
@@ -182,4 +174,12 @@ func fit(cfg Config, s *voters.Stats, prior []float64) ([]float64, OptimizerResu
 		return nil, OptimizerResult{}, prob.Err
 	}
 	return minimizeSimplex(prob, starts, cfg.MaxIterations)
+}
+
+func uniformWeights(n int) []float64 {
+	w := make([]float64, n)
+	for i := range w {
+		w[i] = 1 / float64(n)
+	}
+	return w
 }
