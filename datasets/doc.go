@@ -5,4 +5,48 @@
 //
 // It knows nothing of voters or bounds; those live in packages voters and
 // objective.
+//
+// # Reading
+//
+// ReadFile and Read take one streaming pass over the input: a reader
+// goroutine hashes the raw bytes (SHA-256, the compressed bytes for gzip,
+// which is detected by its magic bytes), cuts the decoded text into blocks
+// of whole records, parse workers (GOMAXPROCS of them) split and convert
+// the blocks, and the caller's goroutine merges them in input order. Only a
+// few blocks of text are in memory at a time; block buffers and parsed
+// parts are reused, and the columns are sized from the share of the input
+// read, so the peak heap stays close to the size of the finished table.
+//
+// The rules, chosen here and tested:
+//   - Quoting follows RFC 4180: a '"' opens a quoted field only as the
+//     field's first byte, "" inside is a quote, and a quoted field may span
+//     lines. CRLF and LF both end records, a UTF-8 byte-order mark is
+//     dropped, blank lines are skipped.
+//   - Header names and unquoted cells are trimmed of surrounding spaces
+//     (and tabs, unless tab is the delimiter), so " Species" is the column
+//     "Species"; quoted cells are kept exactly.
+//   - Missing tokens are compared exactly, case included, after trimming.
+//   - A number is a decimal with optional sign, point and exponent, read
+//     with correct rounding. inf, infinity and nan (any case) are numbers
+//     that are not finite; hex floats and underscores are words.
+//   - An inferred column is numeric when every non-missing cell is a finite
+//     number. When words are present but more than 90% of the non-missing
+//     cells are numbers, the read fails (a stray word, or a non-finite
+//     number) naming the first such cell; otherwise the column is
+//     categorical, numbers becoming levels in their shortest round-trip
+//     form ("1.50" and "1.5" are one level). Force the column categorical
+//     to keep the text of every cell as it is.
+//   - Levels are coded in order of first appearance; class names are
+//     sorted and the label holds indices into them.
+//   - A record, quoted line breaks included, may be at most 1 MiB.
+//
+// Every error from reading is a *ParseError naming the file, line, column
+// and cell, with a sentinel error for errors.Is.
+//
+// # Splits
+//
+// StratifiedSplit and KFold draw from math/rand/v2's PCG through our own
+// bounded draw and shuffle (see rowGen in split.go), so a seed gives the
+// same rows on every platform and Go version; split_test.go pins the
+// sequence against an independent Python rendering.
 package datasets

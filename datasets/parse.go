@@ -120,33 +120,87 @@ type result struct {
 }
 
 // record holds one split record: field bounds in the block (content
-// unquoted in place), where each field began, its line, and whether it was
-// quoted.
+// unquoted in place), and for a record with quotes in it, where each field
+// began, its line, and whether it was quoted. A simple record (no quote in
+// it, on one line) keeps only the bounds.
 type record struct {
-	start, end, raw, line []int
-	quoted                []bool
+	start, end, raw, lines []int
+	quoted                 []bool
+	simple                 bool
+	line                   int
 }
 
-func (r *record) reset() {
-	r.start, r.end, r.raw, r.line, r.quoted = r.start[:0], r.end[:0], r.raw[:0], r.line[:0], r.quoted[:0]
+func (r *record) reset(line int) {
+	r.start, r.end, r.raw, r.lines, r.quoted = r.start[:0], r.end[:0], r.raw[:0], r.lines[:0], r.quoted[:0]
+	r.line = line
 }
 
 func (r *record) add(raw, start, end, line int, quoted bool) {
 	r.raw = append(r.raw, raw)
 	r.start = append(r.start, start)
 	r.end = append(r.end, end)
-	r.line = append(r.line, line)
+	r.lines = append(r.lines, line)
 	r.quoted = append(r.quoted, quoted)
+}
+
+func (r *record) rawAt(f int) int {
+	if r.simple {
+		return r.start[f]
+	}
+	return r.raw[f]
+}
+
+func (r *record) lineAt(f int) int {
+	if r.simple {
+		return r.line
+	}
+	return r.lines[f]
+}
+
+// fieldAt returns the field whose text begins at or before offset off.
+func (r *record) fieldAt(off int) int {
+	f := 0
+	for f+1 < len(r.start) && r.rawAt(f+1) <= off {
+		f++
+	}
+	return f
 }
 
 // split splits the record starting at buf[pos] (not a blank line). It
 // returns the offset after the record and the number of line breaks in
 // it, its own included.
 func (r *record) split(buf []byte, pos, line int, delim byte, file string) (next, lines int, perr *ParseError) {
-	r.reset()
+	r.reset(line)
 	n := len(buf)
+	le := bytes.IndexByte(buf[pos:], '\n') // end of the current physical line
+	if le < 0 {
+		le = n
+	} else {
+		le += pos
+	}
+	if r.simple = bytes.IndexByte(buf[pos:le], '"') < 0; r.simple {
+		s := pos
+		for {
+			e := bytes.IndexByte(buf[s:le], delim)
+			if e < 0 {
+				break
+			}
+			r.start = append(r.start, s)
+			r.end = append(r.end, s+e)
+			s += e + 1
+		}
+		fe := le
+		if fe > s && buf[fe-1] == '\r' {
+			fe--
+		}
+		r.start = append(r.start, s)
+		r.end = append(r.end, fe)
+		if le == n {
+			return n, 0, nil
+		}
+		return le + 1, 1, nil
+	}
 	i := pos
-	le := -1 // end of the current physical line
 	for {
 		if i < n && buf[i] == '"' {
 			raw, fline := i, line+lines
@@ -275,11 +329,7 @@ func (p *plan) parseBlock(ch chunk, res *result, rec *record) {
 		next, lines, err := rec.split(buf, pos, line, p.delim, p.file)
 		if bad < len(buf) && ((err == nil && bad < next) || (err != nil && badLine <= err.Line)) {
 			// The split moves quoted text but never the start of a field.
-			f := 0
-			for f+1 < len(rec.raw) && rec.raw[f+1] <= bad {
-				f++
-			}
-			res.err = p.fieldErr(badLine, f, "", why)
+			res.err = p.fieldErr(badLine, rec.fieldAt(bad), "", why)
 			return
 		}
 		if err != nil {
@@ -320,7 +370,7 @@ func (p *plan) fieldErr(line, f int, field string, err error) *ParseError {
 // it was quoted.
 func (p *plan) cell(buf []byte, rec *record, f int) []byte {
 	b := buf[rec.start[f]:rec.end[f]]
-	if rec.quoted[f] {
+	if !rec.simple && rec.quoted[f] {
 		return b
 	}
 	for len(b) > 0 && (b[0] == ' ' || (p.trimTb && b[0] == '\t')) {
@@ -339,7 +389,7 @@ func (p *plan) cells(buf []byte, rec *record, res *result) *ParseError {
 				res.dropped++
 				return nil
 			}
-			return p.fieldErr(rec.line[p.label], p.label, string(lab),
+			return p.fieldErr(rec.lineAt(p.label), p.label, string(lab),
 				fmt.Errorf("%w (set the option to drop such rows, or fill the label)", ErrMissingLabel))
 		}
 	}
@@ -382,7 +432,7 @@ func (p *plan) cells(buf []byte, rec *record, res *result) *ParseError {
 			if k == cellNonFinite {
 				err = ErrNotFinite
 			}
-			return p.fieldErr(rec.line[f], f, string(b), err)
+			return p.fieldErr(rec.lineAt(f), f, string(b), err)
 		}
 		if !c.hasWords {
 			c.hasWords = true
@@ -395,12 +445,12 @@ func (p *plan) cells(buf []byte, rec *record, res *result) *ParseError {
 		if k == cellNonFinite {
 			c.nonfinite++
 			if c.firstNonFinite.line == 0 {
-				c.firstNonFinite = cellRef{rec.line[f], string(b)}
+				c.firstNonFinite = cellRef{rec.lineAt(f), string(b)}
 			}
 		} else {
 			c.words++
 			if c.firstWord.line == 0 {
-				c.firstWord = cellRef{rec.line[f], string(b)}
+				c.firstWord = cellRef{rec.lineAt(f), string(b)}
 			}
 		}
 	}
@@ -419,8 +469,7 @@ const (
 var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
-// parseNumber classifies a cell. Plain decimals with at most 15 significant
-// digits and a small exponent take Clinger's exact fast path (an exact
+// parseNumber classifies a cell. Plain decimals with at most 15 digits and a small exponent take Clinger's exact fast path (an exact
 // integer times or over an exact power of ten, rounded once); everything
 // else goes to strconv.ParseFloat, so the value is always the correctly
 // rounded one. Hex floats and underscores are words; inf, infinity and
@@ -442,32 +491,25 @@ func parseNumber(b []byte) (float64, cellKind) {
 		return 0, cellWord
 	}
 	var mant uint64
-	nd, frac, digits := 0, 0, 0
-	dot := false
-	for ; i < n; i++ {
-		c := b[i]
-		if c >= '0' && c <= '9' {
-			digits++
-			if dot {
-				frac++
-			}
-			if mant == 0 && c == '0' {
-				continue
-			}
-			nd++
-			if nd > 15 {
-				return parseSlow(b)
-			}
-			mant = mant*10 + uint64(c-'0')
-			continue
-		}
-		if c == '.' && !dot {
-			dot = true
-			continue
-		}
-		break
+	start := i
+	for i < n && b[i]-'0' < 10 {
+		mant = mant*10 + uint64(b[i]-'0')
+		i++
 	}
-	if digits == 0 {
+	digits := i - start
+	frac := 0
+	if i < n && b[i] == '.' {
+		i++
+		fs := i
+		for i < n && b[i]-'0' < 10 {
+			mant = mant*10 + uint64(b[i]-'0')
+			i++
+		}
+		frac = i - fs
+		digits += frac
+	}
+	// Up to 15 digits the mantissa is below 2^53, so exact in a float64.
+	if digits == 0 || digits > 15 {
 		return parseSlow(b)
 	}
 	exp := 0

@@ -255,11 +255,7 @@ func newPlan(file string, delim byte, first chunk, opts ReadOptions) (*plan, chu
 		return nil, first, perr
 	}
 	if bad, why := firstBad(hbuf[:next]); why != nil {
-		f := 0
-		for f+1 < len(rec.raw) && rec.raw[f+1] <= bad {
-			f++
-		}
-		return nil, first, &ParseError{File: file, Line: line + strings.Count(string(buf[pos:pos+bad]), "\n"), Column: f + 1, Err: why}
+		return nil, first, &ParseError{File: file, Line: line + strings.Count(string(buf[pos:pos+bad]), "\n"), Column: rec.fieldAt(bad) + 1, Err: why}
 	}
 	n := len(rec.start)
 	p.names = make([]string, n)
