@@ -4,7 +4,7 @@ import (
 	"slices"
 	"testing"
 
-	"surety/datasets/internal/ucidata"
+	"surety/datasets/ucidata"
 )
 
 // TestUCIHouseVotes reads golearn's copy of the Congressional Voting
