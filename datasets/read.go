@@ -97,6 +97,7 @@ func read(r io.Reader, name string, opts ReadOptions) (*Table, *ParseError) {
 	if perr != nil {
 		return nil, perr
 	}
+	size := sizeOf(r) // before the first read: a Len shrinks as it is read
 	workers := max(1, runtime.GOMAXPROCS(0))
 	tokens := 2*workers + 2
 	c, perr := newChunker(r, name, delim, tokens)
@@ -174,7 +175,7 @@ func read(r io.Reader, name string, opts ReadOptions) (*Table, *ParseError) {
 		close(results)
 	}()
 
-	m := newMerger(p, sizeOf(r), c.gz)
+	m := newMerger(p, size, c.gz)
 	pending := map[int]*result{}
 	next := 0
 	for res := range results {
