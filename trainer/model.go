@@ -244,57 +244,32 @@ func (m *Model) ReadOptions() datasets.ReadOptions {
 }
 
 // Predict returns the vote's class and margin for every row of t, in order.
-// Every column of the model's schema must be in t.
+// The vote binds itself to t, which fails, naming the column, when t lacks
+// a column the model reads or holds it with another kind.
 func (m *Model) Predict(t *datasets.Table) ([]int, []float64, error) {
-	for _, c := range m.Columns {
-		if t.Column(c.Name) < 0 {
-			return nil, nil, fmt.Errorf("trainer: %s: the model needs column %q, which the file lacks", t.Source, c.Name)
-		}
-	}
-	if err := m.Vote.Bind(t); err != nil {
-		return nil, nil, fmt.Errorf("trainer: %s: %w", t.Source, err)
-	}
-	rows := make([]int, t.Rows)
-	for i := range rows {
-		rows[i] = i
-	}
-	cls, margins, err := m.Vote.Predict(t, rows)
+	cls, margins, err := m.Vote.Predict(t, allRows(t))
 	if err != nil {
-		return nil, nil, fmt.Errorf("trainer: %s: %w", t.Source, err)
+		return nil, nil, fmt.Errorf("trainer: %w", err)
 	}
 	return cls, margins, nil
 }
 
 // CountErrors predicts every row of a labelled table t and counts the
-// vote's errors, ties counted as errors. Class names are matched by name,
-// so t may hold a subset of the model's classes; a class the model does not
-// know is an error.
+// vote's errors, ties counted as errors. Classes are matched by name (the
+// voters package's rule), so t may hold a subset of the model's classes; a
+// class the model does not know is an error.
 func (m *Model) CountErrors(t *datasets.Table) (int, error) {
-	if t.Label == nil {
-		return 0, fmt.Errorf("trainer: %s: the table has no label column", t.Source)
-	}
-	toModel := make([]int, len(t.Classes))
-	for i, name := range t.Classes {
-		toModel[i] = -1
-		for j, mc := range m.Classes {
-			if mc == name {
-				toModel[i] = j
-			}
-		}
-		if toModel[i] < 0 {
-			return 0, fmt.Errorf("trainer: %s: class %q of column %q is not one of the model's classes %v", t.Source, name, t.LabelName, m.Classes)
-		}
-	}
-	cls, margins, err := m.Predict(t)
+	n, err := m.Vote.Errors(t, allRows(t))
 	if err != nil {
-		return 0, err
+		return 0, fmt.Errorf("trainer: %w", err)
 	}
-	errs := 0
-	for i, c := range cls {
-		// A zero margin is a tie, which counts as an error.
-		if c != toModel[t.Label[i]] || margins[i] <= 0 {
-			errs++
-		}
+	return n, nil
+}
+
+func allRows(t *datasets.Table) []int {
+	rows := make([]int, t.Rows)
+	for i := range rows {
+		rows[i] = i
 	}
-	return errs, nil
+	return rows
 }
