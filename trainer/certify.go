@@ -5,7 +5,6 @@ import (
 	"math"
 
 	"surety/objective"
-	"surety/voters"
 )
 
 // The certificate families, in the order they are computed and listed.
@@ -75,13 +74,13 @@ type Empirical struct {
 	KL           float64  `json:"kl"`
 }
 
-func empirical(s *voters.Stats, q, prior []float64, voteErrs int, binary bool) Empirical {
+func empirical(r rates, q, prior []float64, voteErrs int, binary bool) Empirical {
 	e := Empirical{
-		M:                   s.M,
-		VoteError:           float64(voteErrs) / float64(s.M),
+		M:                   r.m,
+		VoteError:           float64(voteErrs) / float64(r.m),
 		PosteriorVoteErrors: voteErrs,
-		GibbsRisk:           objective.GibbsRisk(q, s.Risks()),
-		TandemRisk:          objective.TandemRisk(q, s.JointRisks()),
+		GibbsRisk:           objective.GibbsRisk(q, r.risks),
+		TandemRisk:          objective.TandemRisk(q, r.joint),
 		KL:                  objective.Divergence(q, prior),
 	}
 	if binary {

@@ -75,7 +75,7 @@ func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
 	// The prior-rows fit: the objective on the prior rows' statistics with a
 	// uniform prior. It is the hold-out family's vote, and (mixed with
 	// uniform weight) the learned prior. Nothing here sees a certify row.
-	holdQ, _, err := fit(cfg, priorStats, uniform)
+	holdQ, _, err := fit(cfg, ratesOf(priorStats), uniform)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: fitting on the prior rows: %w", err)
 	}
@@ -86,7 +86,8 @@ func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
 			prior[i] = (1-cfg.PriorMix)*holdQ[i] + cfg.PriorMix/float64(n)
 		}
 	}
-	q, opt, err := fit(cfg, certStats, prior)
+	certRates := ratesOf(certStats)
+	q, opt, err := fit(cfg, certRates, prior)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: fitting on the certify rows: %w", err)
 	}
@@ -105,7 +106,7 @@ func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
-	emp := empirical(certStats, q, prior, postErrs, len(t.Classes) == 2)
+	emp := empirical(certRates, q, prior, postErrs, len(t.Classes) == 2)
 	cert, err := certify(cfg.Delta, emp, holdErrs, len(t.Classes))
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
@@ -145,31 +146,41 @@ func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
 	return m, nil
 }
 
-// problemFor returns the configured objective on s with the given prior.
-func problemFor(cfg Config, s *voters.Stats, prior []float64) objective.Problem {
+// rates are a Stats' counts divided by its row count, as the objectives
+// take them; made once per Stats, since the joint rates are n x n.
+type rates struct {
+	m            int
+	risks, joint []float64
+}
+
+func ratesOf(s *voters.Stats) rates {
+	return rates{m: s.M, risks: s.Risks(), joint: s.JointRisks()}
+}
+
+// problemFor returns the configured objective on r with the given prior.
+func problemFor(cfg Config, r rates, prior []float64) objective.Problem {
 	switch cfg.Objective {
 	case Linear:
-		return objective.LinearObjective(s.Risks(), prior, s.M, cfg.Tradeoff)
+		return objective.LinearObjective(r.risks, prior, r.m, cfg.Tradeoff)
 	case KL:
-		return objective.KLObjective(s.Risks(), prior, s.M, cfg.Delta)
+		return objective.KLObjective(r.risks, prior, r.m, cfg.Delta)
 	case CBound:
-		return objective.CBoundObjective(s.Risks(), s.JointRisks(), prior, s.M, cfg.Delta)
+		return objective.CBoundObjective(r.risks, r.joint, prior, r.m, cfg.Delta)
 	default:
-		return objective.TandemObjective(s.JointRisks(), prior, s.M, cfg.Delta)
+		return objective.TandemObjective(r.joint, prior, r.m, cfg.Delta)
 	}
 }
 
-// fit minimises the configured objective on s with the given prior.
-func fit(cfg Config, s *voters.Stats, prior []float64) ([]float64, OptimizerResult, error) {
+// fit minimises the configured objective on r with the given prior.
+func fit(cfg Config, r rates, prior []float64) ([]float64, OptimizerResult, error) {
 	starts := []startPoint{{"prior", prior}, {"uniform", uniformWeights(len(prior))}}
 	// Gibbs posteriors over a grid of temperatures around the configured
 	// trade-off: cheap, closed-form, and often close to a bound's optimum.
-	risks := s.Risks()
 	for _, f := range []float64{1, 0.1, 0.3, 3, 10} {
 		c := cfg.Tradeoff * f
-		starts = append(starts, startPoint{fmt.Sprintf("gibbs(C=%g)", c), objective.GibbsPosterior(risks, prior, s.M, c)})
+		starts = append(starts, startPoint{fmt.Sprintf("gibbs(C=%g)", c), objective.GibbsPosterior(r.risks, prior, r.m, c)})
 	}
-	prob := problemFor(cfg, s, prior)
+	prob := problemFor(cfg, r, prior)
 	if prob.Err != nil {
 		return nil, OptimizerResult{}, prob.Err
 	}

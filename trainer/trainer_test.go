@@ -104,11 +104,11 @@ func TestFitNeverWorseThanStarts(t *testing.T) {
 			for i := range uniform {
 				uniform[i] = 1 / float64(n)
 			}
-			q, res, err := fit(cfg, st, uniform)
+			q, res, err := fit(cfg, ratesOf(st), uniform)
 			if err != nil {
 				t.Fatal(err)
 			}
-			prob := problemFor(cfg, st, uniform)
+			prob := problemFor(cfg, ratesOf(st), uniform)
 			final := prob.Func(q)
 			if math.Abs(final-res.Value) > 1e-12*math.Max(1, math.Abs(final)) {
 				t.Errorf("reported value %v, recomputed %v", res.Value, final)
