@@ -13,6 +13,9 @@ const (
 	OfVoteRisk = "vote-risk"
 	// OfErrorRate: the true error rate of one fixed classifier.
 	OfErrorRate = "error-rate"
+	// OfErrorRateLower: a lower confidence limit on the true error rate of
+	// one fixed classifier (Value is a lower bound, not an upper one).
+	OfErrorRateLower = "error-rate-lower"
 	// OfUnlabelledErrorRate: the error rate on the unlabelled rest of a
 	// finite population.
 	OfUnlabelledErrorRate = "unlabelled-error-rate"

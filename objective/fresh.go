@@ -48,6 +48,46 @@ func TestSetBound(errors, n int, delta float64) (Bound, error) {
 		Terms: []Term{{"errors", float64(errors)}, {"n", float64(n)}, {"error_rate", float64(errors) / float64(n)}}}, nil
 }
 
+// TestSetLowerBound is the other side of TestSetBound: after errors
+// mistakes on n fresh i.i.d. rows, with probability at least 1-delta the
+// true error rate is at least
+//
+//	L = min{p : P(Binomial(n, p) >= errors) >= delta},
+//
+// the one-sided Clopper-Pearson lower limit BetaInv(delta; errors, n-errors+1)
+// (Clopper & Pearson 1934); errors = 0 gives 0. P(X >= k) = I_p(k, n-k+1)
+// rises with p; it is bisected to 1e-15 and the lower end of the bracket is
+// returned, so the value errs on the safe side (low). Value is L, a lower
+// limit: Of is OfErrorRateLower. Terms: errors, n, error_rate.
+func TestSetLowerBound(errors, n int, delta float64) (Bound, error) {
+	if err := checkDelta(delta); err != nil {
+		return Bound{}, fmt.Errorf("test-set lower bound: %w", err)
+	}
+	if n < 1 || errors < 0 || errors > n {
+		return Bound{}, fmt.Errorf("test-set lower bound: %d errors on %d rows: %w", errors, n, ErrRange)
+	}
+	v := 0.0
+	if errors > 0 {
+		k, fn := float64(errors), float64(n)
+		tail := func(p float64) float64 { return mathext.RegIncBeta(k, fn-k+1, p) }
+		lo, hi := 0.0, 1.0 // tail(0) = 0 < delta <= 1 = tail(1)
+		for range 200 {
+			if hi-lo <= 1e-15 {
+				break
+			}
+			mid := lo + (hi-lo)/2
+			if tail(mid) >= delta {
+				hi = mid
+			} else {
+				lo = mid
+			}
+		}
+		v = lo
+	}
+	return Bound{Name: "test-set-lower", Of: OfErrorRateLower, Value: v, Delta: delta, M: n,
+		Terms: []Term{{"errors", float64(errors)}, {"n", float64(n)}, {"error_rate", float64(errors) / float64(n)}}}, nil
+}
+
 // PopulationBound is the finite-population (transductive) bound: the n
 // labelled rows are a uniform sample without replacement from a fixed
 // population of N rows, errors of them are misclassified, and the number K

@@ -133,3 +133,40 @@ func TestPopulationBoundProperties(t *testing.T) {
 		t.Errorf("population 1e6: %v, binomial %v", last, bin.Value)
 	}
 }
+
+// scipy.stats.beta.ppf(delta, k, n-k+1), scipy 1.10.1 (Debian
+// python3-scipy): the one-sided Clopper-Pearson lower limit.
+func TestTestSetLowerBoundScipy(t *testing.T) {
+	for _, c := range []struct {
+		name  string
+		k, n  int
+		delta float64
+		want  float64
+	}{
+		{"one of ten", 1, 10, 0.05, 0.005116196891823702},
+		{"five of hundred", 5, 100, 0.05, 0.019905563662171832},
+		{"half", 50, 100, 0.05, 0.41362171463091163},
+		{"small delta", 12, 200, 0.01, 0.027528605197769337},
+		{"nearly all", 99, 100, 0.1, 0.961660502504613},
+		{"all", 100, 100, 0.05, 0.9704869503929601}, // delta^(1/n) in closed form
+		{"rare", 3, 1000, 0.05, 0.0008181753982218001},
+		{"none", 0, 100, 0.05, 0},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			b, err := TestSetLowerBound(c.k, c.n, c.delta)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if math.Abs(b.Value-c.want) > 1e-12 || b.Value > c.want+1e-15 {
+				t.Errorf("%.17g, scipy %.17g", b.Value, c.want)
+			}
+			up, _ := TestSetBound(c.k, c.n, c.delta)
+			if rate := float64(c.k) / float64(c.n); b.Value > rate || up.Value < rate {
+				t.Errorf("limits [%v, %v] do not hold the rate %v", b.Value, up.Value, rate)
+			}
+		})
+	}
+	if _, err := TestSetLowerBound(5, 4, 0.05); !errors.Is(err, ErrRange) {
+		t.Errorf("5 errors on 4 rows: %v, want ErrRange", err)
+	}
+}

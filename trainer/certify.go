@@ -72,6 +72,37 @@ type Empirical struct {
 	// Disagreement is 2 (r(Q) - t(Q)); binary problems only.
 	Disagreement *float64 `json:"disagreement,omitempty"`
 	KL           float64  `json:"kl"`
+	// Margins counts the shipped vote's margins on the certify rows: the
+	// winning class's weight minus the runner-up's, negated where the vote
+	// is wrong (for two classes, the true class's weight minus the other's).
+	Margins *Histogram `json:"margins,omitempty"`
+}
+
+// Histogram counts values in equal bins over [Lo, Hi]: bin i holds
+// [Lo + i w, Lo + (i+1) w), the last bin holds Hi too.
+type Histogram struct {
+	Lo     float64 `json:"lo"`
+	Hi     float64 `json:"hi"`
+	Counts []int   `json:"counts"`
+}
+
+// MarginBins is the number of bins of Empirical.Margins over [-1, 1].
+const MarginBins = 40
+
+// marginHistogram bins signed margins in [-1, 1]. A wrong vote's margin of
+// zero (a tie, -0 after negation) goes to the bin below zero, with the
+// errors it is.
+func marginHistogram(ms []float64) *Histogram {
+	h := &Histogram{Lo: -1, Hi: 1, Counts: make([]int, MarginBins)}
+	w := (h.Hi - h.Lo) / MarginBins
+	for _, x := range ms {
+		i := int(math.Floor((x - h.Lo) / w))
+		if x == 0 && math.Signbit(x) {
+			i = MarginBins/2 - 1
+		}
+		h.Counts[max(0, min(MarginBins-1, i))]++
+	}
+	return h
 }
 
 func empirical(r rates, q, prior []float64, voteErrs int, binary bool) Empirical {

@@ -2,12 +2,14 @@ package trainer
 
 import (
 	"bytes"
+	"cmp"
 	"encoding/json"
 	"fmt"
 	"io"
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 
 	"surety/datasets"
 	"surety/voters"
@@ -61,6 +63,10 @@ type Provenance struct {
 	PriorFraction float64              `json:"prior_fraction"`
 	Pool          voters.PoolConfig    `json:"pool"`
 	Optimizer     OptimizerResult      `json:"optimizer"`
+	// SweepSettings, when not zero, is the number K of settings this model's
+	// setting was selected from; its certificate is then computed at delta
+	// / K (each family at delta / (K F)) although it states delta.
+	SweepSettings int `json:"sweep_settings,omitempty"`
 }
 
 // modelFile is the JSON layout of a model file.
@@ -272,4 +278,32 @@ func allRows(t *datasets.Table) []int {
 		rows[i] = i
 	}
 	return rows
+}
+
+// Rule is one voter of a model as people read it.
+type Rule struct {
+	// Rule is the voter as a rule: "income <= 52300 -> approve".
+	Rule   string  `json:"rule"`
+	Kind   string  `json:"kind"`
+	Weight float64 `json:"weight"`
+}
+
+// TopVoters returns the k heaviest voters of the shipped vote as rules,
+// heaviest first, ties in pool order; voters of weight 0 are left out.
+func (m *Model) TopVoters(k int) []Rule {
+	w := m.Vote.Weights
+	idx := make([]int, 0, len(w))
+	for i, x := range w {
+		if x > 0 {
+			idx = append(idx, i)
+		}
+	}
+	slices.SortStableFunc(idx, func(a, b int) int { return cmp.Compare(w[b], w[a]) })
+	idx = idx[:min(k, len(idx))]
+	rules := make([]Rule, len(idx))
+	for j, i := range idx {
+		v := m.Vote.Voters[i]
+		rules[j] = Rule{Rule: v.Describe(m.Classes), Kind: v.Kind(), Weight: w[i]}
+	}
+	return rules
 }

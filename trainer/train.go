@@ -15,8 +15,58 @@ import (
 const MinPartRows = 10
 
 // Train runs the whole pipeline on t: split, pool, prior, statistics,
-// posterior, certificate. The table must have a label.
+// posterior, certificate. The table must have a label. It is Prepare
+// followed by Fit with cfg's setting.
 func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
+	p, err := Prepare(ctx, t, cfg)
+	if err != nil {
+		return nil, err
+	}
+	return p.Fit(ctx, cfg.Setting())
+}
+
+// Setting is the part of a Config that may change between fits of one
+// prepared table: the objective, its trade-off and the prior.
+type Setting struct {
+	Objective Objective `json:"objective"`
+	// Tradeoff is C of the Linear objective; the others ignore it except
+	// as a starting point (Config.Tradeoff).
+	Tradeoff float64   `json:"tradeoff"`
+	Prior    PriorKind `json:"prior"`
+}
+
+// Setting returns c's setting, defaults filled in.
+func (c Config) Setting() Setting {
+	c = c.withDefaults()
+	return Setting{Objective: c.Objective, Tradeoff: c.Tradeoff, Prior: c.Prior}
+}
+
+// String names the setting as tables and file names show it:
+// "linear C=0.3 prior=learned", "tandem prior=uniform".
+func (s Setting) String() string {
+	if s.Objective == Linear {
+		return fmt.Sprintf("%s C=%g prior=%s", s.Objective, s.Tradeoff, s.Prior)
+	}
+	return fmt.Sprintf("%s prior=%s", s.Objective, s.Prior)
+}
+
+// Prepared is a table split, its pool built and its statistics counted:
+// everything of the pipeline that does not depend on the objective or the
+// prior, done once for any number of fits (a sweep fits many).
+type Prepared struct {
+	cfg                 Config
+	t                   *datasets.Table
+	priorRows, certRows []int
+	pool                *voters.Pool
+	priorRates          rates
+	certRates           rates
+}
+
+// Prepare splits t, builds the pool on the prior rows and counts the
+// statistics of both parts. cfg's Seed, PriorFraction, Pool, Delta,
+// PriorMix, MaxIterations and Progress hold for every later Fit; its
+// setting is checked here so that bad settings fail before the work.
+func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, error) {
 	cfg = cfg.withDefaults()
 	if t.Label == nil {
 		return nil, fmt.Errorf("trainer: %s: the table has no label column", t.Source)
@@ -27,55 +77,92 @@ func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
 	if len(t.Columns) == 0 {
 		return nil, fmt.Errorf("trainer: %s: no usable feature column", t.Source)
 	}
-	stage := func(s string) {
-		if cfg.Progress != nil {
-			cfg.Progress(s)
-		}
-	}
-
-	stage("split")
-	priorRows, certRows, err := datasets.StratifiedSplit(t.Label, len(t.Classes), cfg.PriorFraction, cfg.Seed)
+	p := &Prepared{cfg: cfg, t: t}
+	p.stage("split")
+	var err error
+	p.priorRows, p.certRows, err = datasets.StratifiedSplit(t.Label, len(t.Classes), cfg.PriorFraction, cfg.Seed)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
-	if len(priorRows) < MinPartRows || len(certRows) < MinPartRows {
+	if len(p.priorRows) < MinPartRows || len(p.certRows) < MinPartRows {
 		return nil, fmt.Errorf("trainer: %s: too few rows: %d rows split into %d prior and %d certify rows, and each part needs at least %d",
-			t.Source, t.Rows, len(priorRows), len(certRows), MinPartRows)
+			t.Source, t.Rows, len(p.priorRows), len(p.certRows), MinPartRows)
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
 
-	stage("pool")
+	p.stage("pool")
 	rng := rand.New(rand.NewPCG(cfg.Seed, 0x9001))
-	pool, err := voters.BuildPool(t, priorRows, cfg.Pool, rng)
+	p.pool, err = voters.BuildPool(t, p.priorRows, cfg.Pool, rng)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
-	n := len(pool.Voters)
-	if n == 0 {
+	if len(p.pool.Voters) == 0 {
 		return nil, fmt.Errorf("trainer: %s: the pool is empty: no feature column yields a voter on the prior rows", t.Source)
 	}
 
-	stage("statistics")
-	priorStats, err := pool.Count(t, priorRows)
+	p.stage("statistics")
+	priorStats, err := p.pool.Count(t, p.priorRows)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
-	certStats, err := pool.Count(t, certRows)
+	certStats, err := p.pool.Count(t, p.certRows)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
+	p.priorRates, p.certRates = ratesOf(priorStats), ratesOf(certStats)
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
+	return p, nil
+}
 
-	stage("optimise")
+func (p *Prepared) stage(s string) {
+	if p.cfg.Progress != nil {
+		p.cfg.Progress(s)
+	}
+}
+
+// PoolSize is the number of voters in the pool.
+func (p *Prepared) PoolSize() int { return len(p.pool.Voters) }
+
+// Fit fits the posterior of setting s and certifies it at the prepared
+// delta.
+func (p *Prepared) Fit(ctx context.Context, s Setting) (*Model, error) {
+	f, err := p.fit(ctx, s)
+	if err != nil {
+		return nil, err
+	}
+	return f.model, nil
+}
+
+// fitted is a Fit's model and what recertifying it at another delta needs:
+// both votes a family may ship and their empirical terms.
+type fitted struct {
+	model       *Model
+	q, holdQ    []float64
+	emp         Empirical // of the posterior
+	holdErrs    int
+	holdMargins []float64
+	postMargins []float64
+}
+
+func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
+	cfg := p.cfg
+	cfg.Objective, cfg.Tradeoff, cfg.Prior = s.Objective, s.Tradeoff, s.Prior
+	cfg = cfg.withDefaults()
+	if err := cfg.validate(len(p.t.Classes)); err != nil {
+		return nil, err
+	}
+	t, pool, n := p.t, p.pool, len(p.pool.Voters)
+
+	p.stage("optimise")
 	uniform := uniformWeights(n)
 	// The prior-rows fit: the objective on the prior rows' statistics with a
 	// uniform prior. It is the hold-out family's vote, and (mixed with
 	// uniform weight) the learned prior. Nothing here sees a certify row.
-	holdQ, _, err := fit(cfg, ratesOf(priorStats), uniform)
+	holdQ, _, err := fit(cfg, p.priorRates, uniform)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: fitting on the prior rows: %w", err)
 	}
@@ -86,8 +173,7 @@ func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
 			prior[i] = (1-cfg.PriorMix)*holdQ[i] + cfg.PriorMix/float64(n)
 		}
 	}
-	certRates := ratesOf(certStats)
-	q, opt, err := fit(cfg, certRates, prior)
+	q, opt, err := fit(cfg, p.certRates, prior)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: fitting on the certify rows: %w", err)
 	}
@@ -95,44 +181,36 @@ func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
 		return nil, err
 	}
 
-	stage("certify")
-	post := &voters.Vote{Voters: pool.Voters, Weights: q, Classes: pool.Classes}
-	hold := &voters.Vote{Voters: pool.Voters, Weights: holdQ, Classes: pool.Classes}
-	postErrs, err := post.Errors(t, certRows)
+	p.stage("certify")
+	f := &fitted{q: q, holdQ: holdQ}
+	var postErrs int
+	f.postMargins, postErrs, err = p.signedMargins(q)
+	if err != nil {
+		return nil, err
+	}
+	f.holdMargins, f.holdErrs, err = p.signedMargins(holdQ)
+	if err != nil {
+		return nil, err
+	}
+	f.emp = empirical(p.certRates, q, prior, postErrs, len(t.Classes) == 2)
+	cert, err := certify(cfg.Delta, f.emp, f.holdErrs, len(t.Classes))
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
-	holdErrs, err := hold.Errors(t, certRows)
-	if err != nil {
-		return nil, fmt.Errorf("trainer: %w", err)
-	}
-	emp := empirical(certRates, q, prior, postErrs, len(t.Classes) == 2)
-	cert, err := certify(cfg.Delta, emp, holdErrs, len(t.Classes))
-	if err != nil {
-		return nil, fmt.Errorf("trainer: %w", err)
-	}
-	shipped := q
-	if cert.Family == FamilyHoldOut {
-		shipped = holdQ
-		emp.VoteError = float64(holdErrs) / float64(emp.M)
-	}
-
-	m := &Model{
+	f.model = &Model{
 		Format:      ModelFormat,
 		ToolVersion: Version,
 		Label:       t.LabelName,
 		Classes:     append([]string(nil), t.Classes...),
 		Columns:     schemaOf(pool),
-		Vote:        &voters.Vote{Voters: pool.Voters, Weights: shipped, Classes: pool.Classes},
-		Certificate: cert,
-		Empirical:   emp,
+		Vote:        &voters.Vote{Voters: pool.Voters, Classes: pool.Classes},
 		Provenance: Provenance{
 			Data:          t.Fingerprint,
 			Source:        t.Source,
 			Seed:          cfg.Seed,
 			Rows:          t.Rows,
-			PriorRows:     len(priorRows),
-			CertifyRows:   len(certRows),
+			PriorRows:     len(p.priorRows),
+			CertifyRows:   len(p.certRows),
 			PoolSize:      n,
 			Objective:     cfg.Objective,
 			Tradeoff:      cfg.Tradeoff,
@@ -143,7 +221,42 @@ func Train(ctx context.Context, t *datasets.Table, cfg Config) (*Model, error) {
 			Optimizer:     opt,
 		},
 	}
-	return m, nil
+	f.ship(cert)
+	return f, nil
+}
+
+// ship sets the model's certificate and the vote its family certifies,
+// with that vote's empirical error and margins.
+func (f *fitted) ship(cert Certificate) {
+	m := f.model
+	m.Certificate = cert
+	m.Empirical = f.emp
+	w, margins := f.q, f.postMargins
+	if cert.Vote == VotePriorRows {
+		w, margins = f.holdQ, f.holdMargins
+		m.Empirical.VoteError = float64(f.holdErrs) / float64(f.emp.M)
+	}
+	m.Vote = &voters.Vote{Voters: m.Vote.Voters, Weights: w, Classes: m.Vote.Classes}
+	m.Empirical.Margins = marginHistogram(margins)
+}
+
+// signedMargins predicts the certify rows with weights w and returns each
+// row's margin, negated where the vote is wrong (a tie, margin 0, is
+// wrong), and the number of errors.
+func (p *Prepared) signedMargins(w []float64) ([]float64, int, error) {
+	v := &voters.Vote{Voters: p.pool.Voters, Weights: w, Classes: p.pool.Classes}
+	cls, margins, err := v.Predict(p.t, p.certRows)
+	if err != nil {
+		return nil, 0, fmt.Errorf("trainer: %w", err)
+	}
+	errs := 0
+	for i, r := range p.certRows {
+		if margins[i] == 0 || cls[i] != p.t.Label[r] {
+			errs++
+			margins[i] = -margins[i]
+		}
+	}
+	return margins, errs, nil
 }
 
 // rates are a Stats' counts divided by its row count, as the objectives

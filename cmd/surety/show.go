@@ -4,7 +4,6 @@ import (
 	"context"
 	"fmt"
 	"io"
-	"sort"
 
 	"github.com/spf13/pflag"
 
@@ -28,29 +27,6 @@ func (o *showOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of text")
 }
 
-// ruleJSON is one voter in show's output.
-type ruleJSON struct {
-	Rule   string  `json:"rule"`
-	Kind   string  `json:"kind"`
-	Weight float64 `json:"weight"`
-}
-
-// topRules lists the k heaviest voters, ties in pool order.
-func topRules(m *trainer.Model, k int) []ruleJSON {
-	idx := make([]int, len(m.Vote.Weights))
-	for i := range idx {
-		idx[i] = i
-	}
-	sort.SliceStable(idx, func(a, b int) bool { return m.Vote.Weights[idx[a]] > m.Vote.Weights[idx[b]] })
-	k = min(k, len(idx))
-	rules := make([]ruleJSON, k)
-	for j, i := range idx[:k] {
-		v := m.Vote.Voters[i]
-		rules[j] = ruleJSON{Rule: v.Describe(m.Classes), Kind: v.Kind(), Weight: m.Vote.Weights[i]}
-	}
-	return rules
-}
-
 func (o *showOptions) run(ctx context.Context, args []string, e *env) error {
 	if len(args) != 1 {
 		return usagef("show takes one model file, got %d arguments", len(args))
@@ -59,7 +35,7 @@ func (o *showOptions) run(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
-	rules := topRules(m, o.top)
+	rules := m.TopVoters(o.top)
 	if o.json {
 		return writeJSON(e.stdout, map[string]any{
 			"model_path":  args[0],
@@ -77,7 +53,7 @@ func (o *showOptions) run(ctx context.Context, args []string, e *env) error {
 	return nil
 }
 
-func printShow(w io.Writer, path string, m *trainer.Model, rules []ruleJSON) {
+func printShow(w io.Writer, path string, m *trainer.Model, rules []trainer.Rule) {
 	p := m.Provenance
 	fmt.Fprintf(w, "model %s (format %d, written by surety %s)\n\n", path, m.Format, m.ToolVersion)
 	printCertificate(w, m)

@@ -1,0 +1,110 @@
+package trainer
+
+import (
+	"context"
+	"math"
+	"strings"
+	"testing"
+
+	"surety/objective"
+	"surety/voters"
+)
+
+func TestCheck(t *testing.T) {
+	m, err := Train(context.Background(), demoTable(t, 800, 2), Config{Seed: 1, Pool: voters.PoolConfig{Thresholds: 8, LinearVoters: intp(2)}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// The margin histogram holds every certify row, and its bins below
+	// zero hold exactly the shipped vote's errors there.
+	h, below := m.Empirical.Margins, 0
+	total := 0
+	for i, n := range h.Counts {
+		total += n
+		if i < MarginBins/2 {
+			below += n
+		}
+	}
+	if total != m.Empirical.M || math.Abs(float64(below)/float64(total)-m.Empirical.VoteError) > 1e-12 {
+		t.Errorf("margins: %d rows (want %d), %d below zero (vote error %v)", total, m.Empirical.M, below, m.Empirical.VoteError)
+	}
+
+	fresh := demoTable(t, 3000, 99)
+	res, err := Check(m, fresh, CheckConfig{Delta: 0.05, Population: 10000})
+	if err != nil {
+		t.Fatal(err)
+	}
+	direct, err := m.CountErrors(fresh)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Errors != direct || res.Rows != fresh.Rows {
+		t.Errorf("%d errors on %d rows, CountErrors says %d on %d", res.Errors, res.Rows, direct, fresh.Rows)
+	}
+	total = 0
+	for i := range res.Classes {
+		for _, n := range res.Confusion[i] {
+			total += n
+		}
+		total += res.Ties[i]
+	}
+	if total != res.Rows {
+		t.Errorf("confusion matrix and ties hold %d rows, want %d", total, res.Rows)
+	}
+	perClass := 0
+	for _, c := range res.PerClass {
+		perClass += c.Errors
+		if b, _ := objective.TestSetBound(c.Errors, c.Rows, res.ClassDelta); b.Value != c.Bound {
+			t.Errorf("class %s: bound %v, want the test-set bound at delta/K %v", c.Class, c.Bound, b.Value)
+		}
+	}
+	if perClass != res.Errors || res.ClassDelta != 0.05/float64(len(res.PerClass)) {
+		t.Errorf("per-class errors %d (want %d), class delta %v", perClass, res.Errors, res.ClassDelta)
+	}
+	if !(res.Lower.Value <= res.ErrorRate && res.ErrorRate <= res.Upper.Value) {
+		t.Errorf("limits [%v, %v] miss the rate %v", res.Lower.Value, res.Upper.Value, res.ErrorRate)
+	}
+	// Fresh draws from the training source: the certificate holds here
+	// (it can fail with probability delta; seeds fixed, so this is stable).
+	if !res.Consistent || !strings.HasPrefix(res.Verdict, "consistent") {
+		t.Errorf("verdict %q on fresh rows from the same source", res.Verdict)
+	}
+	if res.Population == nil || res.Population.Value < 0 || res.Population.Value > 1 {
+		t.Errorf("population bound %+v", res.Population)
+	}
+
+	// Drift: flip every label; the vote now errs far above its certificate.
+	for i, c := range fresh.Label {
+		fresh.Label[i] = 1 - c
+	}
+	res, err = Check(m, fresh, CheckConfig{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Consistent || !strings.Contains(res.Verdict, "drifted") || math.Abs(res.Delta-0.05) > 0 {
+		t.Errorf("flipped labels: consistent %v, verdict %q, delta %v", res.Consistent, res.Verdict, res.Delta)
+	}
+}
+
+func TestCheckRejects(t *testing.T) {
+	m, err := Train(context.Background(), demoTable(t, 400, 2), Config{Seed: 1, Pool: voters.PoolConfig{Thresholds: 4, LinearVoters: intp(0)}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	fresh := demoTable(t, 100, 3)
+	cases := []struct {
+		name string
+		cfg  CheckConfig
+		want string
+	}{
+		{"delta above one", CheckConfig{Delta: 1.5}, "delta"},
+		{"population too small", CheckConfig{Population: 100}, "population"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			if _, err := Check(m, fresh, c.cfg); err == nil || !strings.Contains(err.Error(), c.want) {
+				t.Errorf("error %v, want one naming %s", err, c.want)
+			}
+		})
+	}
+}

@@ -1,0 +1,181 @@
+package trainer
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"slices"
+
+	"surety/datasets"
+)
+
+// Grid lists the settings of a sweep: every objective with every prior,
+// and for the linear objective every trade-off too, since the others do
+// not depend on it (so trying them at several trade-offs would only spend
+// delta). Duplicates are dropped; the order is objectives, then priors,
+// then trade-offs, as given.
+func Grid(objectives []Objective, tradeoffs []float64, priors []PriorKind) []Setting {
+	var out []Setting
+	for _, o := range objectives {
+		for _, p := range priors {
+			cs := tradeoffs
+			if o != Linear || len(cs) == 0 {
+				cs = []float64{1}
+			}
+			for _, c := range cs {
+				s := Setting{Objective: o, Tradeoff: c, Prior: p}
+				if !slices.Contains(out, s) {
+					out = append(out, s)
+				}
+			}
+		}
+	}
+	return out
+}
+
+// SweepRow is one setting's line of a sweep.
+type SweepRow struct {
+	Setting Setting `json:"setting"`
+	Name    string  `json:"name"`
+	// Certificate and Family are the setting's own certificate at the
+	// sweep's delta: true for a setting chosen before the sweep was run.
+	Certificate float64 `json:"certificate"`
+	Family      string  `json:"family"`
+	// SelectionCertificate and SelectionFamily are recomputed at delta / K,
+	// so that all K hold at once with probability 1 - delta: true for a
+	// setting chosen after seeing the sweep.
+	SelectionCertificate float64 `json:"selection_certificate"`
+	SelectionFamily      string  `json:"selection_family"`
+	// VoteError is the shipped vote's error rate on the certify rows.
+	VoteError float64 `json:"vote_error"`
+	KL        float64 `json:"kl"`
+	// HeavyVoters counts the voters of the shipped vote with weight > 1%.
+	HeavyVoters int `json:"heavy_voters"`
+	// Test is filled by the caller that checks each model on a test file.
+	Test *TestLine `json:"test,omitempty"`
+	// ModelFile is filled by the caller that writes each model.
+	ModelFile string `json:"model_file,omitempty"`
+}
+
+// TestLine is a vote's error on labelled test rows with its test-set bound
+// at Delta (one setting at a time: not corrected for the sweep).
+type TestLine struct {
+	Rows      int     `json:"rows"`
+	Errors    int     `json:"errors"`
+	ErrorRate float64 `json:"error_rate"`
+	Bound     float64 `json:"bound"`
+	Delta     float64 `json:"delta"`
+}
+
+// HeavyWeight is the weight above which a voter counts in
+// SweepRow.HeavyVoters.
+const HeavyWeight = 0.01
+
+// SweepResult is a sweep over K settings of one prepared table.
+type SweepResult struct {
+	Delta float64 `json:"delta"`
+	// K is the number of settings; SelectionDelta is Delta / K.
+	K              int        `json:"settings"`
+	SelectionDelta float64    `json:"selection_delta"`
+	Rows           []SweepRow `json:"rows"`
+	// Selected indexes the row with the smallest SelectionCertificate (the
+	// first on a tie).
+	Selected int `json:"selected"`
+	// Statement says in plain words what the selected certificate means.
+	Statement string `json:"statement"`
+	// Models holds each setting's model, certified at Delta, in row order.
+	Models []*Model `json:"-"`
+	// SelectedModel is the selected setting's model re-certified at
+	// SelectionDelta, shipping the vote of the family that wins there.
+	SelectedModel *Model `json:"-"`
+}
+
+// Sweep fits every setting on the same split, pool and statistics, and
+// selects honestly: every certificate is recomputed at delta / K and the
+// smallest of those is the selection, valid with probability 1 - delta
+// although it was picked after seeing all K (a union bound over the K
+// settings, FIELD-GUIDE.md "Honest accounting" 3).
+func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult, error) {
+	if len(settings) == 0 {
+		return nil, fmt.Errorf("trainer: sweep: no settings")
+	}
+	k := len(settings)
+	res := &SweepResult{Delta: p.cfg.Delta, K: k, SelectionDelta: p.cfg.Delta / float64(k)}
+	var fits []*fitted
+	best := math.Inf(1)
+	for i, s := range settings {
+		f, err := p.fit(ctx, s)
+		if err != nil {
+			return nil, fmt.Errorf("trainer: sweep: setting %s: %w", s, err)
+		}
+		sel, err := certify(res.SelectionDelta, f.emp, f.holdErrs, len(p.t.Classes))
+		if err != nil {
+			return nil, fmt.Errorf("trainer: sweep: setting %s: %w", s, err)
+		}
+		m := f.model
+		row := SweepRow{
+			Setting: s, Name: s.String(),
+			Certificate: m.Certificate.RiskBound, Family: m.Certificate.Family,
+			SelectionCertificate: sel.RiskBound, SelectionFamily: sel.Family,
+			VoteError: m.Empirical.VoteError, KL: m.Empirical.KL,
+			HeavyVoters: heavyVoters(m.Vote.Weights),
+		}
+		res.Rows = append(res.Rows, row)
+		res.Models = append(res.Models, m)
+		fits = append(fits, f)
+		if sel.RiskBound < best {
+			best, res.Selected = sel.RiskBound, i
+		}
+	}
+	f := fits[res.Selected]
+	sel := *f.model
+	cert, _ := certify(res.SelectionDelta, f.emp, f.holdErrs, len(p.t.Classes))
+	g := *f
+	g.model = &sel
+	g.ship(cert)
+	sel.Certificate.Delta = p.cfg.Delta
+	sel.Provenance.SweepSettings = k
+	res.SelectedModel = &sel
+	row := res.Rows[res.Selected]
+	res.Statement = fmt.Sprintf("Of %d settings, %s has the smallest certificate. Because it was chosen after seeing all %d, its certificate is recomputed at delta / %d = %.4g: %s (at delta = %g alone it would be %s, which holds only for a setting fixed in advance).",
+		k, row.Name, k, k, res.SelectionDelta, Percent(row.SelectionCertificate, true), p.cfg.Delta, Percent(row.Certificate, true))
+	return res, nil
+}
+
+// Sweep prepares t with cfg and sweeps the settings.
+func Sweep(ctx context.Context, t *datasets.Table, cfg Config, settings []Setting) (*SweepResult, error) {
+	p, err := Prepare(ctx, t, cfg)
+	if err != nil {
+		return nil, err
+	}
+	return p.Sweep(ctx, settings)
+}
+
+func heavyVoters(w []float64) int {
+	n := 0
+	for _, x := range w {
+		if x > HeavyWeight {
+			n++
+		}
+	}
+	return n
+}
+
+// ReadSweepFile reads the JSON of a SweepResult (its rows and selection;
+// the models are separate files).
+func ReadSweepFile(path string) (*SweepResult, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("trainer: %w", err)
+	}
+	var r SweepResult
+	if err := json.Unmarshal(b, &r); err != nil {
+		return nil, fmt.Errorf("trainer: %s: not a sweep file: %w", path, err)
+	}
+	if r.K != len(r.Rows) || r.K == 0 || r.Selected < 0 || r.Selected >= r.K {
+		return nil, fmt.Errorf("trainer: %s: not a sweep file: %d rows for %d settings, selected %d", path, len(r.Rows), r.K, r.Selected)
+	}
+	return &r, nil
+}
