@@ -1,0 +1,32 @@
+package main
+
+import (
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// The text of train and show, pinned: a change to what a user reads shows
+// up as a diff of testdata/train-demo.txt or show-demo.txt (rerun with
+// -update to accept it). The temporary folder is written as $DIR.
+func TestTrainShowGolden(t *testing.T) {
+	dir := t.TempDir()
+	data := demoFile(t, dir, 1200)
+	model := filepath.Join(dir, "model.json")
+	cases := []struct {
+		name, golden string
+		args         []string
+	}{
+		{"train", "train-demo.txt", []string{"train", "--data", data, "--label", "leaked", "--out", model, "--linear-voters", "4", "--thresholds", "8"}},
+		{"show", "show-demo.txt", []string{"show", model, "--top", "5"}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			out, errs, code := runCLI(t, c.args...)
+			if code != 0 {
+				t.Fatalf("exit %d: %s", code, errs)
+			}
+			checkGolden(t, c.golden, strings.ReplaceAll(out, dir, "$DIR"))
+		})
+	}
+}
