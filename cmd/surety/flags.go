@@ -3,6 +3,7 @@ package main
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 )
@@ -139,3 +140,76 @@ func (e *enum) Set(s string) error {
 }
 
 func (e *enum) Type() string { return strings.Join(e.words, "|") }
+
+// enumList is a flag that takes a comma-separated list of words from a
+// fixed list; repeating the flag adds to the list. Duplicates are kept in
+// order of first appearance only.
+type enumList struct {
+	v     *[]string
+	words []string
+	set   bool
+}
+
+func (e *enumList) String() string {
+	if e.v == nil {
+		return ""
+	}
+	return strings.Join(*e.v, ",")
+}
+
+func (e *enumList) Set(s string) error {
+	if !e.set {
+		*e.v = nil
+		e.set = true
+	}
+	for _, w := range strings.Split(s, ",") {
+		w = strings.TrimSpace(w)
+		if !slices.Contains(e.words, w) {
+			return fmt.Errorf("%q is not one of %s", w, strings.Join(e.words, ", "))
+		}
+		if !slices.Contains(*e.v, w) {
+			*e.v = append(*e.v, w)
+		}
+	}
+	return nil
+}
+
+func (e *enumList) Type() string { return strings.Join(e.words, ",") }
+
+// positiveList is a flag that takes a comma-separated list of numbers in
+// (0, inf); repeating the flag adds to the list.
+type positiveList struct {
+	v    *[]float64
+	what string
+	set  bool
+}
+
+func (f *positiveList) String() string {
+	if f.v == nil {
+		return ""
+	}
+	s := make([]string, len(*f.v))
+	for i, x := range *f.v {
+		s[i] = strconv.FormatFloat(x, 'g', -1, 64)
+	}
+	return strings.Join(s, ",")
+}
+
+func (f *positiveList) Set(s string) error {
+	if !f.set {
+		*f.v = nil
+		f.set = true
+	}
+	for _, w := range strings.Split(s, ",") {
+		var x float64
+		if err := positive(&x, f.what).Set(w); err != nil {
+			return err
+		}
+		if !slices.Contains(*f.v, x) {
+			*f.v = append(*f.v, x)
+		}
+	}
+	return nil
+}
+
+func (f *positiveList) Type() string { return "floats" }

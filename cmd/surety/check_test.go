@@ -1,0 +1,171 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"surety/datasets/demodata"
+)
+
+// demoRows writes generated demo rows (seed and config given) to dir/name.
+func demoRows(t *testing.T, dir, name string, cfg demodata.Config, seed uint64) string {
+	t.Helper()
+	var b bytes.Buffer
+	if err := demodata.Write(&b, cfg, seed); err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(dir, name)
+	if err := os.WriteFile(path, b.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return path
+}
+
+// checkFixture trains a small demo model in dir and returns its path.
+func checkFixture(t *testing.T, dir string) string {
+	t.Helper()
+	data := demoFile(t, dir, 1200)
+	model := filepath.Join(dir, "model.json")
+	if _, errs, code := runCLI(t, "train", "--data", data, "--label", "leaked", "--out", model, "--linear-voters", "4", "--thresholds", "8"); code != 0 {
+		t.Fatalf("train exit %d: %s", code, errs)
+	}
+	return model
+}
+
+// The text of check, pinned: rows from the training distribution (a
+// consistent verdict, with the population bound), rows with half their
+// labels flipped (the drift verdict, still exit 0), and --help. The
+// temporary folder is written as $DIR.
+func TestCheckGolden(t *testing.T) {
+	dir := t.TempDir()
+	model := checkFixture(t, dir)
+	fresh := demoRows(t, dir, "fresh.csv", demodata.Config{Rows: 800}, 11)
+	drifted := demoRows(t, dir, "drifted.csv", demodata.Config{Rows: 400, Noise: 0.5}, 12)
+	cases := []struct {
+		name, golden string
+		args         []string
+	}{
+		{"consistent", "check-demo.txt", []string{"check", "--model", model, "--data", fresh, "--population", "10000"}},
+		{"drift", "check-drift.txt", []string{"check", "--model", model, "--data", drifted, "--delta", "0.01"}},
+		{"help", "check-help.txt", []string{"check", "--help"}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			out, errs, code := runCLI(t, c.args...)
+			if code != 0 {
+				t.Fatalf("exit %d: %s", code, errs)
+			}
+			checkGolden(t, c.golden, strings.ReplaceAll(out, dir, "$DIR"))
+		})
+	}
+}
+
+func TestCheckJSON(t *testing.T) {
+	dir := t.TempDir()
+	model := checkFixture(t, dir)
+	fresh := demoRows(t, dir, "fresh.csv", demodata.Config{Rows: 800}, 11)
+	out, errs, code := runCLI(t, "check", "--model", model, "--data", fresh, "--population", "10000", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var got map[string]any
+	if err := json.Unmarshal([]byte(out), &got); err != nil {
+		t.Fatalf("%v\n%s", err, out)
+	}
+	for _, k := range []string{"model_path", "data_path", "rows", "errors", "error_rate", "delta", "upper", "lower",
+		"model_bound", "model_delta", "consistent", "verdict", "population", "classes", "confusion", "ties",
+		"per_class", "class_delta", "model_statement", "cautions"} {
+		if _, ok := got[k]; !ok {
+			t.Errorf("check --json lacks %q", k)
+		}
+	}
+	if got["model_path"] != model || got["data_path"] != fresh || got["rows"] != 800.0 {
+		t.Errorf("model_path %v, data_path %v, rows %v", got["model_path"], got["data_path"], got["rows"])
+	}
+	var r struct {
+		Rows, Errors int
+		Upper, Lower struct{ Value float64 }
+		Population   struct {
+			Value float64
+			Of    string
+		}
+		Confusion  [][]int
+		Ties       []int
+		PerClass   []struct{ Rows, Errors int } `json:"per_class"`
+		ClassDelta float64                      `json:"class_delta"`
+	}
+	if err := json.Unmarshal([]byte(out), &r); err != nil {
+		t.Fatal(err)
+	}
+	// The confusion matrix and the ties account for every row, and the
+	// off-diagonal cells and ties for every error.
+	total, errors, perClass := 0, 0, 0
+	for i, row := range r.Confusion {
+		for j, n := range row {
+			total += n
+			if i != j {
+				errors += n
+			}
+		}
+		total += r.Ties[i]
+		errors += r.Ties[i]
+	}
+	for _, c := range r.PerClass {
+		perClass += c.Errors
+	}
+	if total != r.Rows || errors != r.Errors || perClass != r.Errors {
+		t.Errorf("confusion holds %d rows and %d errors, per class %d errors; the check says %d and %d", total, errors, perClass, r.Rows, r.Errors)
+	}
+	if rate := float64(r.Errors) / float64(r.Rows); !(r.Lower.Value <= rate && rate <= r.Upper.Value) {
+		t.Errorf("limits [%v, %v] do not hold the error rate %v", r.Lower.Value, r.Upper.Value, rate)
+	}
+	if r.Population.Of != "unlabelled-error-rate" || r.ClassDelta != 0.05/2 {
+		t.Errorf("population of %q, class delta %v", r.Population.Of, r.ClassDelta)
+	}
+}
+
+func TestCheckFailures(t *testing.T) {
+	dir := t.TempDir()
+	model := checkFixture(t, dir)
+	fresh := demoRows(t, dir, "fresh.csv", demodata.Config{Rows: 200}, 11)
+	noLabel := filepath.Join(dir, "nolabel.csv")
+	b, _ := os.ReadFile(fresh)
+	var unlabelled []string
+	for _, line := range strings.Split(strings.TrimSpace(string(b)), "\n") {
+		unlabelled = append(unlabelled, line[:strings.LastIndexByte(line, ',')])
+	}
+	os.WriteFile(noLabel, []byte(strings.Join(unlabelled, "\n")+"\n"), 0o644)
+	lacking := filepath.Join(dir, "lacking.csv")
+	os.WriteFile(lacking, []byte("soil,depth_m,leaked\nclay,1.2,leak\n"), 0o644)
+	cases := []struct {
+		name string
+		args []string
+		code int
+		want string // in stderr
+	}{
+		{"no model", []string{"--data", fresh}, 2, "--model is required"},
+		{"no data", []string{"--model", model}, 2, "--data is required"},
+		{"delta out of range", []string{"--model", model, "--data", fresh, "--delta", "1"}, 2, "--delta"},
+		{"population not above the rows", []string{"--model", model, "--data", fresh, "--population", "200"}, 2, "--population 200 must exceed the 200 fresh rows"},
+		{"population not a number", []string{"--model", model, "--data", fresh, "--population", "many"}, 2, "--population"},
+		{"missing label column", []string{"--model", model, "--data", noLabel}, 1, `"leaked"`},
+		{"missing feature column", []string{"--model", model, "--data", lacking}, 1, `"age_years"`},
+		{"not a model", []string{"--model", fresh, "--data", fresh}, 1, "not a model file"},
+		{"missing data file", []string{"--model", model, "--data", filepath.Join(dir, "nope.csv")}, 1, "nope.csv"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			out, errs, code := runCLI(t, append([]string{"check"}, c.args...)...)
+			if code != c.code || !strings.Contains(errs, c.want) {
+				t.Errorf("exit %d, stderr %q; want exit %d mentioning %q", code, errs, c.code, c.want)
+			}
+			if out != "" {
+				t.Errorf("a failed check printed %q", out)
+			}
+		})
+	}
+}

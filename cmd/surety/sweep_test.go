@@ -1,0 +1,266 @@
+package main
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"surety/datasets/demodata"
+	"surety/datasets/ucidata"
+	"surety/trainer"
+)
+
+// sweepArgs is a small sweep of the demo data: 6 settings on 1200 rows.
+func sweepArgs(data string) []string {
+	return []string{"sweep", "--data", data, "--label", "leaked", "--linear-voters", "4", "--thresholds", "8",
+		"--objective", "linear,tandem", "--tradeoff", "0.3,3", "--prior", "learned,uniform"}
+}
+
+// The text of sweep, pinned, with a test file and an output folder; and
+// --help. The temporary folder is written as $DIR.
+func TestSweepGolden(t *testing.T) {
+	dir := t.TempDir()
+	data := demoFile(t, dir, 1200)
+	test := demoRows(t, dir, "test.csv", demodata.Config{Rows: 800}, 11)
+	cases := []struct {
+		name, golden string
+		args         []string
+	}{
+		{"table", "sweep-demo.txt", append(sweepArgs(data), "--test", test, "--out-dir", filepath.Join(dir, "out"))},
+		{"help", "sweep-help.txt", []string{"sweep", "--help"}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			out, errs, code := runCLI(t, c.args...)
+			if code != 0 {
+				t.Fatalf("exit %d: %s", code, errs)
+			}
+			checkGolden(t, c.golden, strings.ReplaceAll(out, dir, "$DIR"))
+		})
+	}
+}
+
+// --json prints the SweepResult, the same bytes as sweep.json in the output
+// folder; every file the folder should hold is there and reads back.
+func TestSweepJSONAndFolder(t *testing.T) {
+	dir := t.TempDir()
+	data := demoFile(t, dir, 1200)
+	test := demoRows(t, dir, "test.csv", demodata.Config{Rows: 800}, 11)
+	outDir := filepath.Join(dir, "new", "out")
+	out, errs, code := runCLI(t, append(sweepArgs(data), "--test", test, "--out-dir", outDir, "--json")...)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var keys map[string]json.RawMessage
+	if err := json.Unmarshal([]byte(out), &keys); err != nil {
+		t.Fatalf("%v\n%s", err, out)
+	}
+	for _, k := range []string{"delta", "settings", "selection_delta", "rows", "selected", "statement"} {
+		if _, ok := keys[k]; !ok {
+			t.Errorf("sweep --json lacks %q", k)
+		}
+	}
+	var rows []map[string]any
+	json.Unmarshal(keys["rows"], &rows)
+	for _, k := range []string{"setting", "name", "certificate", "family", "selection_certificate", "selection_family",
+		"vote_error", "kl", "heavy_voters", "test", "model_file"} {
+		if _, ok := rows[0][k]; !ok {
+			t.Errorf("sweep --json rows lack %q", k)
+		}
+	}
+	file, err := os.ReadFile(filepath.Join(outDir, "sweep.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if string(file) != out {
+		t.Error("sweep.json differs from the --json output")
+	}
+	res, err := trainer.ReadSweepFile(filepath.Join(outDir, "sweep.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	// 2 trade-offs x 2 priors for linear, 2 priors for tandem.
+	if res.K != 6 {
+		t.Fatalf("%d settings, want 6", res.K)
+	}
+	for _, r := range res.Rows {
+		if r.SelectionCertificate < r.Certificate {
+			t.Errorf("%s: selection certificate %v below its certificate at delta %v", r.Name, r.SelectionCertificate, r.Certificate)
+		}
+		if r.Test == nil || r.Test.Rows != 800 || r.Test.Bound < r.Test.ErrorRate || r.Test.Delta != res.Delta {
+			t.Errorf("%s: test line %+v", r.Name, r.Test)
+		}
+		m, err := trainer.ReadModelFile(filepath.Join(outDir, r.ModelFile))
+		if err != nil {
+			t.Fatalf("%s: %v", r.Name, err)
+		}
+		if m.Certificate.RiskBound != r.Certificate || m.Provenance.Objective != r.Setting.Objective || m.Provenance.Prior != r.Setting.Prior {
+			t.Errorf("%s: model file %s holds bound %v, %s, %s", r.Name, r.ModelFile, m.Certificate.RiskBound, m.Provenance.Objective, m.Provenance.Prior)
+		}
+	}
+	sel, err := trainer.ReadModelFile(filepath.Join(outDir, "selected.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sel.Provenance.SweepSettings != 6 || sel.Certificate.RiskBound != res.Rows[res.Selected].SelectionCertificate {
+		t.Errorf("selected.json: %d settings, bound %v; want 6 and %v", sel.Provenance.SweepSettings, sel.Certificate.RiskBound, res.Rows[res.Selected].SelectionCertificate)
+	}
+	f, err := os.Open(filepath.Join(outDir, "sweep.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	recs, err := csv.NewReader(f).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(recs) != 7 || strings.Join(recs[0], ",") != strings.Join(sweepCSVHeader, ",") {
+		t.Fatalf("sweep.csv: %d lines, header %v", len(recs), recs[0])
+	}
+	if recs[1+res.Selected][16] != "true" || recs[1][15] != res.Rows[0].ModelFile {
+		t.Errorf("sweep.csv line %v", recs[1+res.Selected])
+	}
+	names, _ := filepath.Glob(filepath.Join(outDir, "*"))
+	if len(names) != 6+3 {
+		t.Errorf("the folder holds %d files, want 6 models, selected.json, sweep.csv, sweep.json: %v", len(names), names)
+	}
+}
+
+func TestModelFileName(t *testing.T) {
+	cases := []struct {
+		name string
+		s    trainer.Setting
+		want string
+	}{
+		{"linear", trainer.Setting{Objective: trainer.Linear, Tradeoff: 0.3, Prior: trainer.LearnedPrior}, "linear-C0.3-learned.json"},
+		{"tiny trade-off", trainer.Setting{Objective: trainer.Linear, Tradeoff: 1e-5, Prior: trainer.UniformPrior}, "linear-C1e-05-uniform.json"},
+		{"tandem ignores the trade-off", trainer.Setting{Objective: trainer.Tandem, Tradeoff: 1, Prior: trainer.UniformPrior}, "tandem-uniform.json"},
+		{"unsafe characters", trainer.Setting{Objective: "a/b c", Prior: "../x"}, "a_b_c-.._x.json"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			if got := modelFileName(c.s); got != c.want {
+				t.Errorf("%q, want %q", got, c.want)
+			}
+		})
+	}
+}
+
+func TestSweepFailures(t *testing.T) {
+	dir := t.TempDir()
+	data := demoFile(t, dir, 300)
+	iris := ucidata.Path(t, "iris_headers.csv")
+	cases := []struct {
+		name string
+		args []string
+		code int
+		want string // in stderr
+	}{
+		{"bad trade-off word", []string{"--data", data, "--tradeoff", "0.3,x"}, 2, `"x" is not a number`},
+		{"negative trade-off", []string{"--data", data, "--tradeoff", "1,-3"}, 2, "--tradeoff must be in (0, inf)"},
+		{"unknown objective", []string{"--data", data, "--objective", "linear,best"}, 2, `"best" is not one of`},
+		{"unknown prior", []string{"--data", data, "--prior", "flat"}, 2, `"flat" is not one of`},
+		{"delta out of range", []string{"--data", data, "--delta", "0"}, 2, "--delta"},
+		{"stray argument", []string{"--data", data, "extra"}, 2, "unexpected argument"},
+		{"cbound alone on three classes", []string{"--data", iris, "--label", "Species", "--objective", "cbound"}, 1, "needs exactly 2 classes"},
+		{"unknown label", []string{"--data", data, "--label", "nope"}, 1, "nope"},
+		{"test file lacks the label", []string{"--data", data, "--label", "leaked", "--objective", "tandem", "--prior", "uniform", "--test", iris}, 1, `"leaked"`},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			out, errs, code := runCLI(t, append([]string{"sweep"}, c.args...)...)
+			if code != c.code || !strings.Contains(errs, c.want) {
+				t.Errorf("exit %d, stderr %q; want exit %d mentioning %q", code, errs, c.code, c.want)
+			}
+			if out != "" {
+				t.Errorf("a failed sweep printed %q", out)
+			}
+		})
+	}
+}
+
+// With three classes cbound is dropped with a warning and the others run.
+func TestSweepDropsCBound(t *testing.T) {
+	out, errs, code := runCLI(t, "sweep", "--data", ucidata.Path(t, "iris_headers.csv"), "--label", "Species",
+		"--objective", "cbound,tandem", "--prior", "uniform", "--linear-voters", "2", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if !strings.Contains(errs, "warning: cbound dropped") {
+		t.Errorf("stderr %q lacks the warning", errs)
+	}
+	var res trainer.SweepResult
+	if err := json.Unmarshal([]byte(out), &res); err != nil {
+		t.Fatal(err)
+	}
+	if res.K != 1 || res.Rows[0].Setting.Objective != trainer.Tandem {
+		t.Errorf("%d settings %v, want tandem alone", res.K, res.Rows)
+	}
+}
+
+// End to end on UCI's Congressional Voting Records (golearn's
+// house-votes-84.csv, label "party"): every third row is held out as fresh
+// data; sweep with --test and --out-dir, then check the selected model on
+// the held-out rows. The selected certificate is a bound at delta / K, so
+// the fresh rows should agree with it (a drift verdict here would be the
+// delta case, or a bug).
+func TestSweepCheckHouseVotes(t *testing.T) {
+	if testing.Short() {
+		t.Skip("trains on a UCI set")
+	}
+	dir := t.TempDir()
+	b, err := os.ReadFile(ucidata.Path(t, "house-votes-84.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	train, fresh := []string{lines[0]}, []string{lines[0]}
+	for i, l := range lines[1:] {
+		if i%3 == 2 {
+			fresh = append(fresh, l)
+		} else {
+			train = append(train, l)
+		}
+	}
+	trainPath, freshPath := filepath.Join(dir, "train.csv"), filepath.Join(dir, "fresh.csv")
+	os.WriteFile(trainPath, []byte(strings.Join(train, "\n")+"\n"), 0o644)
+	os.WriteFile(freshPath, []byte(strings.Join(fresh, "\n")+"\n"), 0o644)
+	outDir := filepath.Join(dir, "sweep")
+
+	out, errs, code := runCLI(t, "sweep", "--data", trainPath, "--label", "party", "--tradeoff", "1,10", "--test", freshPath, "--out-dir", outDir)
+	if code != 0 {
+		t.Fatalf("sweep exit %d: %s", code, errs)
+	}
+	for _, want := range []string{"<- selected", "recomputed at delta / 8", "not corrected for the 8 settings", "cautions:"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("sweep output lacks %q:\n%s", want, out)
+		}
+	}
+	res, err := trainer.ReadSweepFile(filepath.Join(outDir, "sweep.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	sel := res.Rows[res.Selected]
+
+	out, errs, code = runCLI(t, "check", "--model", filepath.Join(outDir, "selected.json"), "--data", freshPath, "--json")
+	if code != 0 {
+		t.Fatalf("check exit %d: %s", code, errs)
+	}
+	var c trainer.CheckResult
+	if err := json.Unmarshal([]byte(out), &c); err != nil {
+		t.Fatal(err)
+	}
+	if c.Rows != len(fresh)-1 || c.ModelBound != sel.SelectionCertificate || len(c.PerClass) != 2 {
+		t.Errorf("check: %d rows, model bound %v, %d classes; want %d, %v, 2", c.Rows, c.ModelBound, len(c.PerClass), len(fresh)-1, sel.SelectionCertificate)
+	}
+	if !c.Consistent {
+		t.Errorf("fresh house-votes rows disagree with the selected certificate: %s", c.Verdict)
+	}
+	// The sweep's test line counted the same fresh rows.
+	if sel.Test == nil || sel.Test.Rows != c.Rows {
+		t.Errorf("selected row's test line %+v", sel.Test)
+	}
+}
