@@ -1,15 +1,17 @@
 package main
 
 import (
-	"bufio"
 	"bytes"
 	"context"
 	"fmt"
 	"io"
+	"os"
+	"path/filepath"
 	"strconv"
 
 	"github.com/spf13/pflag"
 
+	"surety/datasets"
 	"surety/trainer"
 )
 
@@ -18,6 +20,10 @@ func init() {
 		"Predict the class of every row of a CSV file with a trained vote.",
 		func() command { return &predictOptions{} })
 }
+
+// predictChunkRows is how many rows predict reads, predicts and writes at a
+// time: memory holds about this many rows, whatever the file's length.
+var predictChunkRows = 32768
 
 type predictOptions struct {
 	model string
@@ -40,6 +46,15 @@ type predictionJSON struct {
 	Margin float64 `json:"margin"`
 }
 
+// run streams the rows: each chunk is predicted and its CSV lines written
+// before the next is read. Only the columns the model reads are read
+// (datasets.Scan), so extra columns are ignored whatever they hold. With
+// --out, the lines go to a temporary file renamed over the path at the
+// end, so a bad row leaves no partial file and any earlier one intact; on
+// standard output, the lines of the chunks before a bad row are already
+// written (whole lines only). --json without --out prints one object with
+// the class counts ahead of the predictions, so it keeps every row's class
+// and margin (16 bytes a row) until the end.
 func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 	if len(args) > 0 {
 		return usagef("unexpected argument %q", args[0])
@@ -51,58 +66,101 @@ func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
-	t, err := o.data.read(e, m.ReadOptions())
+	if o.data.path == "" {
+		return usagef("--data is required")
+	}
+	opts, err := o.data.options(m.ReadOptions(), func(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) })
 	if err != nil {
 		return err
 	}
-	cls, margins, err := m.Predict(t)
-	if err != nil {
-		return err
+	if o.data.path != "-" {
+		fi, err := os.Stat(o.data.path)
+		if err != nil {
+			return err
+		}
+		if fi.IsDir() {
+			return fmt.Errorf("%s is a folder, not a file", o.data.path)
+		}
+	}
+
+	collect := o.json && o.out == ""
+	var dst io.Writer = e.stdout
+	var file *atomicFile
+	if o.out != "" {
+		if file, err = createAtomic(o.out); err != nil {
+			return err
+		}
+		defer file.abort()
+		dst = file
 	}
 	counts := map[string]int{}
-	for _, c := range cls {
-		counts[m.Classes[c]]++
-	}
-	if o.json && o.out == "" {
-		rows := make([]predictionJSON, len(cls))
-		for i, c := range cls {
-			rows[i] = predictionJSON{Row: i + 1, Class: m.Classes[c], Margin: margins[i]}
+	var cls []int
+	var margins []float64
+	var line []byte
+	rows := 0
+	scan := func(chunk *datasets.Table, first int) error {
+		rows += chunk.Rows
+		c, mg, err := m.Predict(chunk)
+		if err != nil {
+			return err
 		}
-		return writeJSON(e.stdout, map[string]any{"rows": len(cls), "class_counts": counts, "predictions": rows})
-	}
-	if o.out == "" {
-		return writePredictions(e.stdout, m.Classes, cls, margins)
-	}
-	var buf bytes.Buffer
-	if err := writePredictions(&buf, m.Classes, cls, margins); err != nil {
+		for _, k := range c {
+			counts[m.Classes[k]]++
+		}
+		if collect {
+			cls, margins = append(cls, c...), append(margins, mg...)
+			return nil
+		}
+		if first == 0 {
+			line = append(line, "row,class,margin\n"...)
+		}
+		for i, k := range c {
+			line = appendPrediction(line, first+i+1, m.Classes[k], mg[i])
+		}
+		_, err = dst.Write(line)
+		line = line[:0]
 		return err
 	}
-	if err := trainer.WriteFileAtomic(o.out, buf.Bytes()); err != nil {
+	stop := e.spinner("predicting " + o.data.path)
+	if o.data.path == "-" {
+		_, err = datasets.Scan(e.stdin, "-", opts, predictChunkRows, scan)
+	} else {
+		_, err = datasets.ScanFile(o.data.path, opts, predictChunkRows, scan)
+	}
+	stop()
+	if err != nil {
+		return err
+	}
+	if collect {
+		preds := make([]predictionJSON, len(cls))
+		for i, c := range cls {
+			preds[i] = predictionJSON{Row: i + 1, Class: m.Classes[c], Margin: margins[i]}
+		}
+		return writeJSON(e.stdout, map[string]any{"rows": rows, "class_counts": counts, "predictions": preds})
+	}
+	if file == nil {
+		return nil
+	}
+	if err := file.commit(); err != nil {
 		return err
 	}
 	if o.json {
-		return writeJSON(e.stdout, map[string]any{"rows": len(cls), "class_counts": counts, "out": o.out})
+		return writeJSON(e.stdout, map[string]any{"rows": rows, "class_counts": counts, "out": o.out})
 	}
-	fmt.Fprintf(e.stdout, "%d predictions written to %s\n", len(cls), o.out)
+	fmt.Fprintf(e.stdout, "%d predictions written to %s\n", rows, o.out)
 	return nil
 }
 
-// writePredictions writes the predictions CSV: the data row number (1 for
-// the first row after the header), the class, and the vote's margin.
-func writePredictions(w io.Writer, classes []string, cls []int, margins []float64) error {
-	bw := bufio.NewWriter(w)
-	bw.WriteString("row,class,margin\n")
-	var b []byte
-	for i, c := range cls {
-		b = strconv.AppendInt(b[:0], int64(i+1), 10)
-		b = append(b, ',')
-		b = appendCSVField(b, classes[c])
-		b = append(b, ',')
-		b = strconv.AppendFloat(b, margins[i], 'f', 6, 64)
-		b = append(b, '\n')
-		bw.Write(b)
-	}
-	return bw.Flush()
+// appendPrediction appends one line of the predictions CSV: the data row
+// number (1 for the first row after the header), the class, and the vote's
+// margin.
+func appendPrediction(b []byte, row int, class string, margin float64) []byte {
+	b = strconv.AppendInt(b, int64(row), 10)
+	b = append(b, ',')
+	b = appendCSVField(b, class)
+	b = append(b, ',')
+	b = strconv.AppendFloat(b, margin, 'f', 6, 64)
+	return append(b, '\n')
 }
 
 // appendCSVField quotes a field when RFC 4180 says it must be.
@@ -118,4 +176,50 @@ func appendCSVField(b []byte, s string) []byte {
 		b = append(b, s[i])
 	}
 	return append(b, '"')
+}
+
+// atomicFile is an output file written as a stream and put in place at the
+// end: the bytes go to a temporary file in the same folder, which commit
+// syncs and renames over the path, so readers never see a partial file and
+// a failed run leaves any earlier file untouched.
+type atomicFile struct {
+	*os.File
+	path string
+	done bool
+}
+
+func createAtomic(path string) (*atomicFile, error) {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
+	if err != nil {
+		return nil, fmt.Errorf("writing %s: %w", path, err)
+	}
+	return &atomicFile{File: f, path: path}, nil
+}
+
+// commit syncs the temporary file and renames it over the path.
+func (a *atomicFile) commit() error {
+	err := a.Sync()
+	if err == nil {
+		err = a.Chmod(0o644)
+	}
+	if cerr := a.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Rename(a.Name(), a.path)
+	}
+	if err != nil {
+		os.Remove(a.Name())
+		return fmt.Errorf("writing %s: %w", a.path, err)
+	}
+	a.done = true
+	return nil
+}
+
+// abort removes the temporary file unless commit put it in place.
+func (a *atomicFile) abort() {
+	if !a.done {
+		a.Close()
+		os.Remove(a.Name())
+	}
 }
