@@ -87,11 +87,11 @@ func Scan(r io.Reader, name string, opts ReadOptions, chunkRows int, fn func(chu
 // parseInOrder runs Read's pipeline over r: a goroutine reads, hashes and
 // cuts the input into blocks, GOMAXPROCS workers parse them, and each gets
 // the parsed blocks in input order on the calling goroutine. start sees
-// the plan once the header is read, before any block is parsed, and may
-// change it. each must be done with a result when it returns (results are
+// the chunker and the plan once the header is read, before any block is
+// parsed, and may change the plan. each must be done with a result when it returns (results are
 // reused); its error stops the pipeline and is returned. The chunker's
 // digest is set once the input has been read to its end.
-func parseInOrder(r io.Reader, name string, opts ReadOptions, start func(*plan) *ParseError, each func(*result) error) (*chunker, error) {
+func parseInOrder(r io.Reader, name string, opts ReadOptions, start func(*chunker, *plan) *ParseError, each func(*result) error) (*chunker, error) {
 	delim, perr := checkDelim(name, opts.Delimiter)
 	if perr != nil {
 		return nil, perr
@@ -116,7 +116,7 @@ func parseInOrder(r io.Reader, name string, opts ReadOptions, start func(*plan) 
 	if perr != nil {
 		return nil, perr
 	}
-	if perr := start(p); perr != nil {
+	if perr := start(c, p); perr != nil {
 		return nil, perr
 	}
 
@@ -230,7 +230,7 @@ type scanCol struct {
 }
 
 // start keeps the label and the columns of a fixed kind, and skips the rest.
-func (s *scanner) start(p *plan) *ParseError {
+func (s *scanner) start(_ *chunker, p *plan) *ParseError {
 	s.p = p
 	p.nslots = 0
 	features := 0
