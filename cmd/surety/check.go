@@ -81,7 +81,11 @@ func (o *checkOptions) run(ctx context.Context, args []string, e *env) error {
 
 func printCheck(w io.Writer, modelPath, dataPath string, m *trainer.Model, r *trainer.CheckResult) {
 	conf := trainer.Percent(1-r.Delta, false)
-	fmt.Fprintf(w, "model  %s: label %q, certificate %s at delta %g (%s)\n", modelPath, m.Label, trainer.Percent(r.ModelBound, true), r.ModelDelta, m.Certificate.Family)
+	sel := ""
+	if k := m.Provenance.SweepSettings; k > 0 {
+		sel = fmt.Sprintf(", selected from %d settings so computed at delta / %d", k, k)
+	}
+	fmt.Fprintf(w, "model  %s: label %q, certificate %s at delta %g (%s%s)\n", modelPath, m.Label, trainer.Percent(r.ModelBound, true), r.ModelDelta, m.Certificate.Family, sel)
 	fmt.Fprintf(w, "fresh  %s: %d labelled rows\n\n", dataPath, r.Rows)
 	fmt.Fprintf(w, "fresh error     %d of %d rows, %s (ties count as errors)\n", r.Errors, r.Rows, pct(r.ErrorRate))
 	fmt.Fprintf(w, "test-set bound  at most %s and at least %s, each with probability at least %s (binomial tail, delta %g)\n",

@@ -142,8 +142,8 @@ func (e *enum) Set(s string) error {
 func (e *enum) Type() string { return strings.Join(e.words, "|") }
 
 // enumList is a flag that takes a comma-separated list of words from a
-// fixed list; repeating the flag adds to the list. Duplicates are kept in
-// order of first appearance only.
+// fixed list. The first use replaces the default and a repeated flag adds
+// to the list; a word given twice counts once.
 type enumList struct {
 	v     *[]string
 	words []string
@@ -177,7 +177,7 @@ func (e *enumList) Set(s string) error {
 func (e *enumList) Type() string { return strings.Join(e.words, ",") }
 
 // positiveList is a flag that takes a comma-separated list of numbers in
-// (0, inf); repeating the flag adds to the list.
+// (0, inf), with enumList's rules for defaults, repeats and duplicates.
 type positiveList struct {
 	v    *[]float64
 	what string

@@ -3,8 +3,10 @@ package main
 import (
 	"encoding/csv"
 	"encoding/json"
+	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -245,6 +247,10 @@ func TestSweepCheckHouseVotes(t *testing.T) {
 	}
 	sel := res.Rows[res.Selected]
 
+	out, errs, code = runCLI(t, "check", "--model", filepath.Join(outDir, "selected.json"), "--data", freshPath)
+	if code != 0 || !strings.Contains(out, "selected from 8 settings so computed at delta / 8") || !strings.Contains(out, "verdict: consistent") {
+		t.Errorf("check exit %d: %s\n%s", code, errs, out)
+	}
 	out, errs, code = runCLI(t, "check", "--model", filepath.Join(outDir, "selected.json"), "--data", freshPath, "--json")
 	if code != 0 {
 		t.Fatalf("check exit %d: %s", code, errs)
@@ -263,4 +269,107 @@ func TestSweepCheckHouseVotes(t *testing.T) {
 	if sel.Test == nil || sel.Test.Rows != c.Rows {
 		t.Errorf("selected row's test line %+v", sel.Test)
 	}
+}
+
+func TestListFlags(t *testing.T) {
+	cases := []struct {
+		name    string
+		sets    []string
+		want    string
+		wantErr string
+	}{
+		{"default kept", nil, "linear,tandem", ""},
+		{"first use replaces the default", []string{"cbound"}, "cbound", ""},
+		{"repeat adds", []string{"cbound", "kl,tandem"}, "cbound,kl,tandem", ""},
+		{"duplicates count once", []string{"kl, kl", "kl"}, "kl", ""},
+		{"unknown word", []string{"kl,best"}, "", `"best" is not one of`},
+		{"empty word", []string{""}, "", `"" is not one of`},
+	}
+	for _, c := range cases {
+		t.Run("enum "+c.name, func(t *testing.T) {
+			v := []string{"linear", "tandem"}
+			f := &enumList{v: &v, words: objectiveWords}
+			var err error
+			for _, s := range c.sets {
+				if err = f.Set(s); err != nil {
+					break
+				}
+			}
+			if c.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), c.wantErr) {
+					t.Errorf("error %v, want %q", err, c.wantErr)
+				}
+				return
+			}
+			if err != nil || f.String() != c.want {
+				t.Errorf("%q, %v; want %q", f.String(), err, c.want)
+			}
+		})
+	}
+	floats := []struct {
+		name    string
+		sets    []string
+		want    string
+		wantErr string
+	}{
+		{"default kept", nil, "0.1,1", ""},
+		{"list", []string{"0.3, 3,30"}, "0.3,3,30", ""},
+		{"repeat adds, duplicates once", []string{"1", "1e1,10"}, "1,10", ""},
+		{"zero", []string{"0"}, "", "must be in (0, inf)"},
+		{"not a number", []string{"1,,2"}, "", `"" is not a number`},
+		{"infinity", []string{"inf"}, "", "must be in (0, inf)"},
+		{"NaN", []string{"NaN"}, "", "not a number"},
+	}
+	for _, c := range floats {
+		t.Run("floats "+c.name, func(t *testing.T) {
+			v := []float64{0.1, 1}
+			f := &positiveList{v: &v, what: "--tradeoff"}
+			var err error
+			for _, s := range c.sets {
+				if err = f.Set(s); err != nil {
+					break
+				}
+			}
+			if c.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), c.wantErr) {
+					t.Errorf("error %v, want %q", err, c.wantErr)
+				}
+				return
+			}
+			if err != nil || f.String() != c.want {
+				t.Errorf("%q, %v; want %q", f.String(), err, c.want)
+			}
+		})
+	}
+}
+
+// The list flags parse what a user types: whatever the input, they do not
+// panic, and a list they accept holds only allowed words or finite
+// positive numbers, each once.
+func FuzzListFlags(f *testing.F) {
+	for _, s := range []string{"0.1,0.3,1", "linear,cbound", "", ",", "1e308,1e309", " kl ,tandem", "-0", "0x1p-3"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		var words []string
+		if err := (&enumList{v: &words, words: objectiveWords}).Set(s); err == nil {
+			seen := map[string]bool{}
+			for _, w := range words {
+				if !slices.Contains(objectiveWords, w) || seen[w] {
+					t.Errorf("%q gave %q", s, words)
+				}
+				seen[w] = true
+			}
+		}
+		var xs []float64
+		if err := (&positiveList{v: &xs, what: "--tradeoff"}).Set(s); err == nil {
+			seen := map[float64]bool{}
+			for _, x := range xs {
+				if !(x > 0) || math.IsInf(x, 0) || seen[x] {
+					t.Errorf("%q gave %v", s, xs)
+				}
+				seen[x] = true
+			}
+		}
+	})
 }
