@@ -1,16 +1,15 @@
 package datasets
 
 import (
+	"errors"
 	"fmt"
 	"io"
 	"io/fs"
 	"math"
 	"os"
-	"runtime"
 	"slices"
 	"strconv"
 	"strings"
-	"sync"
 )
 
 // ReadOptions sets how a file is read. The zero value reads a headed CSV
@@ -93,113 +92,22 @@ func Read(r io.Reader, name string, opts ReadOptions) (*Table, error) {
 }
 
 func read(r io.Reader, name string, opts ReadOptions) (*Table, *ParseError) {
-	delim, perr := checkDelim(name, opts.Delimiter)
-	if perr != nil {
-		return nil, perr
-	}
 	size := sizeOf(r) // before the first read: a Len shrinks as it is read
-	workers := max(1, runtime.GOMAXPROCS(0))
-	tokens := 2*workers + 2
-	c, perr := newChunker(r, name, delim, tokens)
-	if perr != nil {
+	var m *merger
+	c, err := parseInOrder(r, name, opts,
+		func(c *chunker, p *plan) *ParseError { m = newMerger(p, size, c.gz); return nil },
+		func(res *result) error { m.merge(res); return nil })
+	if err != nil {
+		var perr *ParseError
+		errors.As(err, &perr) // every error but each's is one, and each returns none
 		return nil, perr
-	}
-	done := make(chan struct{})
-	defer close(done)
-
-	first, ok := c.next(done)
-	if !ok {
-		return nil, &ParseError{File: name, Err: ErrEmpty}
-	}
-	if first.err != nil {
-		return nil, first.err
-	}
-	p, first, perr := newPlan(name, c.delim, first, opts)
-	if perr != nil {
-		return nil, perr
-	}
-
-	work := make(chan chunk, workers)
-	results := make(chan *result, workers)
-	freeRes := make(chan *result, tokens)
-	for range tokens {
-		freeRes <- &result{}
-	}
-	go func() {
-		defer close(work)
-		for seq := 0; ; seq++ {
-			var ch chunk
-			if seq == 0 {
-				ch = first
-			} else if ch, ok = c.next(done); !ok {
-				return
-			}
-			ch.seq = seq
-			select {
-			case work <- ch:
-			case <-done:
-				return
-			}
-			if ch.err != nil {
-				return
-			}
-		}
-	}()
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			var rec record
-			for {
-				var res *result
-				select {
-				case res = <-freeRes:
-				case <-done:
-					return
-				}
-				ch, ok := <-work
-				if !ok {
-					return
-				}
-				p.parseBlock(ch, res, &rec)
-				c.bufs <- ch.buf[:0]
-				select {
-				case results <- res:
-				case <-done:
-					return
-				}
-			}
-		})
-	}
-	go func() {
-		wg.Wait()
-		close(results)
-	}()
-
-	m := newMerger(p, size, c.gz)
-	pending := map[int]*result{}
-	next := 0
-	for res := range results {
-		pending[res.seq] = res
-		for {
-			res, ok := pending[next]
-			if !ok {
-				break
-			}
-			delete(pending, next)
-			if res.err != nil {
-				return nil, res.err
-			}
-			m.merge(res)
-			freeRes <- res
-			next++
-		}
 	}
 	t, perr := m.finish(opts)
 	if perr != nil {
 		return nil, perr
 	}
 	t.Source = name
-	t.Fingerprint = Fingerprint{SHA256: c.digest, Rows: m.rows + m.dropped, Columns: len(p.names)}
+	t.Fingerprint = Fingerprint{SHA256: c.digest, Rows: m.rows + m.dropped, Columns: len(m.p.names)}
 	return t, nil
 }
 
