@@ -45,14 +45,23 @@ func TestCheckGolden(t *testing.T) {
 	model := checkFixture(t, dir)
 	fresh := demoRows(t, dir, "fresh.csv", demodata.Config{Rows: 800}, 11)
 	drifted := demoRows(t, dir, "drifted.csv", demodata.Config{Rows: 400, Noise: 0.5}, 12)
-	cases := []struct {
-		name, golden string
-		args         []string
-	}{
+	runGolden(t, dir, []goldenCase{
 		{"consistent", "check-demo.txt", []string{"check", "--model", model, "--data", fresh, "--population", "10000"}},
 		{"drift", "check-drift.txt", []string{"check", "--model", model, "--data", drifted, "--delta", "0.01"}},
 		{"help", "check-help.txt", []string{"check", "--help"}},
-	}
+	})
+}
+
+// goldenCase is one command line whose output is pinned in testdata/.
+type goldenCase struct {
+	name, golden string
+	args         []string
+}
+
+// runGolden runs each case, which must exit 0, and checks its output
+// against its golden file, the temporary folder dir written as $DIR.
+func runGolden(t *testing.T, dir string, cases []goldenCase) {
+	t.Helper()
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
 			out, errs, code := runCLI(t, c.args...)

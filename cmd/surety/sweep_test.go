@@ -10,6 +10,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/spf13/pflag"
+
 	"surety/datasets/demodata"
 	"surety/datasets/ucidata"
 	"surety/trainer"
@@ -27,22 +29,10 @@ func TestSweepGolden(t *testing.T) {
 	dir := t.TempDir()
 	data := demoFile(t, dir, 1200)
 	test := demoRows(t, dir, "test.csv", demodata.Config{Rows: 800}, 11)
-	cases := []struct {
-		name, golden string
-		args         []string
-	}{
+	runGolden(t, dir, []goldenCase{
 		{"table", "sweep-demo.txt", append(sweepArgs(data), "--test", test, "--out-dir", filepath.Join(dir, "out"))},
 		{"help", "sweep-help.txt", []string{"sweep", "--help"}},
-	}
-	for _, c := range cases {
-		t.Run(c.name, func(t *testing.T) {
-			out, errs, code := runCLI(t, c.args...)
-			if code != 0 {
-				t.Fatalf("exit %d: %s", code, errs)
-			}
-			checkGolden(t, c.golden, strings.ReplaceAll(out, dir, "$DIR"))
-		})
-	}
+	})
 }
 
 // --json prints the SweepResult, the same bytes as sweep.json in the output
@@ -271,13 +261,36 @@ func TestSweepCheckHouseVotes(t *testing.T) {
 	}
 }
 
+// listCase sets a list flag with each of sets in turn and expects its
+// value or an error.
+type listCase struct {
+	name    string
+	sets    []string
+	want    string
+	wantErr string
+}
+
+func (c listCase) check(t *testing.T, f pflag.Value) {
+	t.Helper()
+	var err error
+	for _, s := range c.sets {
+		if err = f.Set(s); err != nil {
+			break
+		}
+	}
+	if c.wantErr != "" {
+		if err == nil || !strings.Contains(err.Error(), c.wantErr) {
+			t.Errorf("error %v, want %q", err, c.wantErr)
+		}
+		return
+	}
+	if err != nil || f.String() != c.want {
+		t.Errorf("%q, %v; want %q", f.String(), err, c.want)
+	}
+}
+
 func TestListFlags(t *testing.T) {
-	cases := []struct {
-		name    string
-		sets    []string
-		want    string
-		wantErr string
-	}{
+	words := []listCase{
 		{"default kept", nil, "linear,tandem", ""},
 		{"first use replaces the default", []string{"cbound"}, "cbound", ""},
 		{"repeat adds", []string{"cbound", "kl,tandem"}, "cbound,kl,tandem", ""},
@@ -285,33 +298,13 @@ func TestListFlags(t *testing.T) {
 		{"unknown word", []string{"kl,best"}, "", `"best" is not one of`},
 		{"empty word", []string{""}, "", `"" is not one of`},
 	}
-	for _, c := range cases {
+	for _, c := range words {
 		t.Run("enum "+c.name, func(t *testing.T) {
 			v := []string{"linear", "tandem"}
-			f := &enumList{v: &v, words: objectiveWords}
-			var err error
-			for _, s := range c.sets {
-				if err = f.Set(s); err != nil {
-					break
-				}
-			}
-			if c.wantErr != "" {
-				if err == nil || !strings.Contains(err.Error(), c.wantErr) {
-					t.Errorf("error %v, want %q", err, c.wantErr)
-				}
-				return
-			}
-			if err != nil || f.String() != c.want {
-				t.Errorf("%q, %v; want %q", f.String(), err, c.want)
-			}
+			c.check(t, &enumList{v: &v, words: objectiveWords})
 		})
 	}
-	floats := []struct {
-		name    string
-		sets    []string
-		want    string
-		wantErr string
-	}{
+	floats := []listCase{
 		{"default kept", nil, "0.1,1", ""},
 		{"list", []string{"0.3, 3,30"}, "0.3,3,30", ""},
 		{"repeat adds, duplicates once", []string{"1", "1e1,10"}, "1,10", ""},
@@ -323,22 +316,7 @@ func TestListFlags(t *testing.T) {
 	for _, c := range floats {
 		t.Run("floats "+c.name, func(t *testing.T) {
 			v := []float64{0.1, 1}
-			f := &positiveList{v: &v, what: "--tradeoff"}
-			var err error
-			for _, s := range c.sets {
-				if err = f.Set(s); err != nil {
-					break
-				}
-			}
-			if c.wantErr != "" {
-				if err == nil || !strings.Contains(err.Error(), c.wantErr) {
-					t.Errorf("error %v, want %q", err, c.wantErr)
-				}
-				return
-			}
-			if err != nil || f.String() != c.want {
-				t.Errorf("%q, %v; want %q", f.String(), err, c.want)
-			}
+			c.check(t, &positiveList{v: &v, what: "--tradeoff"})
 		})
 	}
 }
