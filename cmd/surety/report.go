@@ -37,6 +37,7 @@ func (o *reportOptions) AddFlags(fs *pflag.FlagSet) {
 	// The shared data flags, with --data renamed --check: the fresh rows
 	// are optional here and read with the model's schema and label.
 	data := pflag.NewFlagSet("data", pflag.ContinueOnError)
+	data.SortFlags = false
 	o.check.AddFlags(data, false)
 	data.VisitAll(func(f *pflag.Flag) {
 		if f.Name == "data" {
