@@ -72,3 +72,46 @@ func BenchmarkCount(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkBuildPool measures BuildPool with 32 linear voters on 500,000
+// prior rows of a 1,000,000 x 50 numeric table, as the trainer's default
+// split gives: each linear voter fitted on a bootstrap sample of all the
+// prior rows (what BuildPool did before LinearRows) and of the default
+// LinearRows. It reports seconds per build and the peak heap beyond the
+// table. Run with -benchtime 1x; skipped under -short.
+func BenchmarkBuildPool(b *testing.B) {
+	if testing.Short() {
+		b.Skip("1,000,000-row table skipped under -short")
+	}
+	const m = 1_000_000
+	t := synthTable(m, 50, 7)
+	prior := make([]int, m/2)
+	for i := range prior {
+		prior[i] = i
+	}
+	for _, tc := range []struct {
+		name string
+		rows int
+	}{
+		{"linear-rows=all-prior", len(prior)},
+		{"linear-rows=default", 0},
+	} {
+		b.Run(tc.name, func(b *testing.B) {
+			runtime.GC()
+			var before runtime.MemStats
+			runtime.ReadMemStats(&before)
+			peak := newPeakHeap()
+			var pool *Pool
+			for b.Loop() {
+				var err error
+				if pool, err = BuildPool(t, prior, PoolConfig{LinearRows: tc.rows}, rand.New(rand.NewPCG(1, 2))); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.StopTimer()
+			b.ReportMetric(float64(len(pool.Voters)), "voters")
+			b.ReportMetric(b.Elapsed().Seconds()/float64(b.N), "s/build")
+			b.ReportMetric(float64(peak.stop()-before.HeapAlloc)/(1<<20), "peak-MiB-beyond-table")
+		})
+	}
+}

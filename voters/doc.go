@@ -39,7 +39,9 @@
 // A [Linear] voter is an L2-regularised multinomial logistic regression
 // (softmax over the classes; for two classes a single score vector, as in
 // binary logistic regression) fitted with gonum's optimize.LBFGS on a random
-// subset of the columns and a bootstrap sample of the prior rows. Numeric
+// subset of the columns and a bootstrap sample of the prior rows, of
+// PoolConfig.LinearRows rows (20000 by default; as many as there are prior
+// rows when there are fewer). Numeric
 // inputs are standardised with the mean and standard deviation of all the
 // prior rows (a constant column keeps scale 1); a missing numeric cell is
 // the prior-row mean, 0 after standardising. Categorical inputs are one-hot
@@ -48,6 +50,25 @@
 // index. The objective is the mean cross-entropy plus L2/2 times the squared
 // norm of the weights (intercepts are not penalised), which is
 // scikit-learn's LogisticRegression with C = 1/(L2 n) on n rows.
+//
+// # Pool size
+//
+// PoolConfig.MaxVoters (2048 by default) caps the pool, linear voters
+// included, since the joint-error counts grow with its square. When the
+// stumps outnumber MaxVoters minus the linear voters, BuildPool keeps those
+// that get the fewest prior rows wrong (a missing cell counted on the side
+// the stump's missing rule sends it), ties to the earlier stump, and keeps
+// them in pool order: columns in table order, then thresholds or levels,
+// then the pairs of the class rule. The counts come from the class counts
+// the stumps are built from, so the choice sees the prior rows only. A wide
+// table can lose every stump of some columns; with two classes a stump
+// usually outlives its complement, which errs on the other rows. Linear
+// voters draw their columns from every column with a present prior-row
+// value, whether or not a kept stump reads it.
+//
+// [Pool].Schema lists the columns some kept voter reads (stump or linear),
+// in table order; a table must have those to bind the pool, and needs no
+// other. A column with no split and no linear voter on it is not listed.
 //
 // # Binding
 //

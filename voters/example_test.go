@@ -50,6 +50,28 @@ func ExampleBuildPool() {
 	// income <= 60 -> repaid, else default (missing: repaid): 3 of 4 wrong
 }
 
+func ExampleBuildPool_maxVoters() {
+	t := loans()
+	prior := []int{0, 2, 4, 6}
+	none := 0
+	// Four stumps split the prior rows; a cap of 2 keeps the two with the
+	// fewest prior-row errors. Region splits nothing and no voter reads it,
+	// so the schema leaves it out.
+	pool, err := voters.BuildPool(t, prior, voters.PoolConfig{Thresholds: 2, LinearVoters: &none, MaxVoters: 2}, nil)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	for _, v := range pool.Voters {
+		fmt.Println(v.Describe(pool.Classes))
+	}
+	fmt.Println("schema:", pool.Schema)
+	// Output:
+	// income <= 41 -> default, else repaid (missing: default)
+	// income <= 60 -> default, else repaid (missing: default)
+	// schema: [{income numeric}]
+}
+
 func ExampleVote_Predict() {
 	t := loans()
 	vote := &voters.Vote{

@@ -29,6 +29,14 @@ type PoolConfig struct {
 	// L2 is the ridge strength of the linear voters (see the package doc);
 	// 0 means 0.01, scikit-learn's default C = 1 on 100 rows.
 	L2 float64
+	// MaxVoters caps the pool size, linear voters included; 0 means 2048.
+	// When there are more stumps than MaxVoters minus the linear voters,
+	// the ones with the fewest prior-row errors are kept (see the package
+	// doc). A value below the number of linear voters is an error.
+	MaxVoters int
+	// LinearRows is the size of each linear voter's bootstrap sample, at
+	// most the number of prior rows; 0 means 20000.
+	LinearRows int
 }
 
 // Defaults of PoolConfig.
@@ -37,6 +45,8 @@ const (
 	DefaultMaxLevels    = 32
 	DefaultLinearVoters = 32
 	DefaultL2           = 0.01
+	DefaultMaxVoters    = 2048
+	DefaultLinearRows   = 20000
 )
 
 func (c PoolConfig) withDefaults() (PoolConfig, int, error) {
@@ -48,6 +58,12 @@ func (c PoolConfig) withDefaults() (PoolConfig, int, error) {
 	}
 	if c.L2 == 0 {
 		c.L2 = DefaultL2
+	}
+	if c.MaxVoters == 0 {
+		c.MaxVoters = DefaultMaxVoters
+	}
+	if c.LinearRows == 0 {
+		c.LinearRows = DefaultLinearRows
 	}
 	linear := DefaultLinearVoters
 	if c.LinearVoters != nil {
@@ -64,6 +80,12 @@ func (c PoolConfig) withDefaults() (PoolConfig, int, error) {
 		return c, 0, fmt.Errorf("voters: pool config: LinearColumns is %d, want >= 0", c.LinearColumns)
 	case !(c.L2 > 0) || math.IsInf(c.L2, 1):
 		return c, 0, fmt.Errorf("voters: pool config: L2 is %v, want a finite value > 0", c.L2)
+	case c.MaxVoters < 0:
+		return c, 0, fmt.Errorf("voters: pool config: MaxVoters is %d, want >= 0", c.MaxVoters)
+	case c.MaxVoters < linear:
+		return c, 0, fmt.Errorf("voters: pool config: MaxVoters is %d, below the %d linear voters (LinearVoters)", c.MaxVoters, linear)
+	case c.LinearRows < 0:
+		return c, 0, fmt.Errorf("voters: pool config: LinearRows is %d, want >= 0", c.LinearRows)
 	}
 	return c, linear, nil
 }
@@ -79,15 +101,17 @@ type ColumnSpec struct {
 type Pool struct {
 	Voters  []Voter
 	Classes []string
-	// Schema lists the columns the voters read, in the table's order.
+	// Schema lists the columns some voter of the pool reads, in the
+	// table's order: the columns a table must have to bind the pool.
 	Schema []ColumnSpec
 
 	bound *datasets.Table
 }
 
 // BuildPool builds a pool from the prior rows of t only: stumps on every
-// numeric and categorical column, then the linear voters, as the package
-// doc describes. rng draws the linear voters' columns and bootstrap samples.
+// numeric and categorical column, capped by MaxVoters, then the linear
+// voters, as the package doc describes. rng draws the linear voters'
+// columns and bootstrap samples.
 func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*Pool, error) {
 	cfg, linear, err := cfg.withDefaults()
 	if err != nil {
@@ -106,33 +130,31 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 		return nil, fmt.Errorf("voters: build pool: linear voters need a random source")
 	}
 	p := &Pool{Classes: slices.Clone(t.Classes)}
+	cs := &candidates{m: len(rows)}
 	var usable []int
 	for j := range t.Columns {
 		c := &t.Columns[j]
-		before := len(p.Voters)
 		present := false
 		switch c.Kind {
 		case datasets.Numeric:
-			present = p.numericStumps(t, c, rows, cfg.Thresholds)
+			present = cs.numericStumps(t, c, rows, cfg.Thresholds)
 		case datasets.Categorical:
-			present = p.categoryStumps(t, c, rows, cfg.MaxLevels)
+			present = cs.categoryStumps(t, c, rows, cfg.MaxLevels)
 		default:
 			return nil, fmt.Errorf("voters: build pool: column %q has unknown kind %d", c.Name, c.Kind)
 		}
 		if present {
 			usable = append(usable, j)
 		}
-		if present || len(p.Voters) > before {
-			p.Schema = append(p.Schema, ColumnSpec{Name: c.Name, Kind: c.Kind})
-		}
 	}
+	p.Voters = cs.best(cfg.MaxVoters - linear)
 	if linear > 0 && len(usable) > 0 {
 		width := cfg.LinearColumns
 		if width == 0 {
 			width = int(math.Ceil(math.Sqrt(float64(len(usable)))))
 		}
 		width = min(width, len(usable))
-		sample := make([]int, len(rows))
+		sample := make([]int, min(cfg.LinearRows, len(rows)))
 		for range linear {
 			perm := rng.Perm(len(usable))[:width]
 			slices.Sort(perm)
@@ -153,8 +175,68 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 	if len(p.Voters) == 0 {
 		return nil, fmt.Errorf("voters: build pool: no column of %s splits the %d prior rows", source(t), len(rows))
 	}
+	p.Schema = schemaOf(t, p.Voters)
 	p.bound = t
 	return p, nil
+}
+
+// schemaOf returns the columns of t that some voter of vs reads, in t's
+// order.
+func schemaOf(t *datasets.Table, vs []Voter) []ColumnSpec {
+	read := make(map[string]bool)
+	for _, v := range vs {
+		for _, name := range v.Columns() {
+			read[name] = true
+		}
+	}
+	var out []ColumnSpec
+	for j := range t.Columns {
+		if c := &t.Columns[j]; read[c.Name] {
+			out = append(out, ColumnSpec{Name: c.Name, Kind: c.Kind})
+		}
+	}
+	return out
+}
+
+// candidates collects the stumps of a pool, in pool order, with the number
+// of prior rows each gets wrong.
+type candidates struct {
+	m      int // prior rows
+	voters []Voter
+	errs   []int
+	cells  []cell // numericStumps' scratch, reused column after column
+}
+
+// cell is a present numeric value of a prior row and the row's class.
+type cell struct {
+	v     float64
+	class int
+}
+
+// add appends v, which gets right of the prior rows right.
+func (cs *candidates) add(v Voter, right int) {
+	cs.voters = append(cs.voters, v)
+	cs.errs = append(cs.errs, cs.m-right)
+}
+
+// best returns the n candidates with the fewest prior-row errors (ties to
+// the earlier one) in pool order; all of them when there are at most n.
+func (cs *candidates) best(n int) []Voter {
+	if len(cs.voters) <= n {
+		return cs.voters
+	}
+	idx := make([]int, len(cs.voters))
+	for i := range idx {
+		idx[i] = i
+	}
+	slices.SortFunc(idx, func(a, b int) int { return cmp.Or(cmp.Compare(cs.errs[a], cs.errs[b]), cmp.Compare(a, b)) })
+	idx = idx[:n]
+	slices.Sort(idx)
+	out := make([]Voter, n)
+	for i, k := range idx {
+		out[i] = cs.voters[k]
+	}
+	return out
 }
 
 // sideCounts holds the class counts of the prior rows on each side of a
@@ -187,6 +269,16 @@ func (s sideCounts) missingLow(lo, hi int) bool {
 	return sum(s.low) >= sum(s.high)
 }
 
+// right returns the number of prior rows the stump (lo, hi) gets right,
+// missing cells going to the side missingLow gives.
+func (s sideCounts) right(lo, hi int, missingLow bool) int {
+	n := s.low[lo] + s.high[hi]
+	if missingLow {
+		return n + s.miss[lo]
+	}
+	return n + s.miss[hi]
+}
+
 // mostFrequentOther returns the class other than c with the largest count,
 // ties to the lower index.
 func mostFrequentOther(counts []int, c int) int {
@@ -209,13 +301,9 @@ func sum(xs []int) int {
 
 // numericStumps appends the stumps of c; it reports whether c has a
 // present value in the prior rows.
-func (p *Pool) numericStumps(t *datasets.Table, c *datasets.Column, rows []int, thresholds int) bool {
+func (cs *candidates) numericStumps(t *datasets.Table, c *datasets.Column, rows []int, thresholds int) bool {
 	k := len(t.Classes)
-	type cell struct {
-		v     float64
-		class int
-	}
-	var cells []cell
+	cells := cs.cells[:0]
 	miss := make([]int, k)
 	for _, r := range rows {
 		if v := c.Num[r]; math.IsNaN(v) {
@@ -224,10 +312,21 @@ func (p *Pool) numericStumps(t *datasets.Table, c *datasets.Column, rows []int, 
 			cells = append(cells, cell{v, t.Label[r]})
 		}
 	}
+	cs.cells = cells
 	if len(cells) == 0 {
 		return false
 	}
-	slices.SortFunc(cells, func(a, b cell) int { return cmp.Compare(a.v, b.v) })
+	// No NaN is left, so < orders the values; the order of equal values
+	// does not matter.
+	slices.SortFunc(cells, func(a, b cell) int {
+		switch {
+		case a.v < b.v:
+			return -1
+		case a.v > b.v:
+			return 1
+		}
+		return 0
+	})
 	n := len(cells)
 	maxV := cells[n-1].v
 	var cuts []float64
@@ -255,8 +354,9 @@ func (p *Pool) numericStumps(t *datasets.Table, c *datasets.Column, rows []int, 
 		}
 		s := sideCounts{low: low, high: high, miss: miss}
 		for _, pr := range s.pairs() {
-			p.Voters = append(p.Voters, &Stump{Column: c.Name, Threshold: cut, Below: pr[0], Above: pr[1],
-				MissingBelow: s.missingLow(pr[0], pr[1]), col: c.Num})
+			ml := s.missingLow(pr[0], pr[1])
+			cs.add(&Stump{Column: c.Name, Threshold: cut, Below: pr[0], Above: pr[1], MissingBelow: ml, col: c.Num},
+				s.right(pr[0], pr[1], ml))
 		}
 	}
 	return true
@@ -264,7 +364,7 @@ func (p *Pool) numericStumps(t *datasets.Table, c *datasets.Column, rows []int, 
 
 // categoryStumps appends the stumps of c; it reports whether c has a
 // present value in the prior rows.
-func (p *Pool) categoryStumps(t *datasets.Table, c *datasets.Column, rows []int, maxLevels int) bool {
+func (cs *candidates) categoryStumps(t *datasets.Table, c *datasets.Column, rows []int, maxLevels int) bool {
 	k := len(t.Classes)
 	counts := make([][]int, len(c.Levels)) // class counts per level
 	miss := make([]int, k)
@@ -312,8 +412,9 @@ func (p *Pool) categoryStumps(t *datasets.Table, c *datasets.Column, rows []int,
 		}
 		s := sideCounts{low: counts[code], high: rest, miss: miss}
 		for _, pr := range s.pairs() {
-			p.Voters = append(p.Voters, &CategoryStump{Column: c.Name, Level: c.Levels[code], Equal: pr[0], Other: pr[1],
-				MissingEqual: s.missingLow(pr[0], pr[1]), codes: c.Codes, code: uint32(code)})
+			ml := s.missingLow(pr[0], pr[1])
+			cs.add(&CategoryStump{Column: c.Name, Level: c.Levels[code], Equal: pr[0], Other: pr[1],
+				MissingEqual: ml, codes: c.Codes, code: uint32(code)}, s.right(pr[0], pr[1], ml))
 		}
 	}
 	return true
