@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"math"
 	"strings"
 
 	"github.com/spf13/pflag"
@@ -30,7 +31,7 @@ func (o *checkOptions) AddFlags(fs *pflag.FlagSet) {
 	o.data.AddFlags(fs, false)
 	o.delta = 0.05
 	fs.Var(probability(&o.delta, "--delta"), "delta", "probability that each bound of the check is wrong, in (0, 1)")
-	fs.Var(&intRange{v: &o.population, lo: 2, hi: 1 << 62, what: "--population"}, "population",
+	fs.Var(&intRange{v: &o.population, lo: 2, hi: math.MaxInt, what: "--population"}, "population",
 		"size N of a fixed population the fresh rows are a uniform sample of, without replacement: bound the error on its N - n unlabelled rows")
 	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of text")
 }
