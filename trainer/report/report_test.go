@@ -31,12 +31,26 @@ func TestWriteSections(t *testing.T) {
 	withCheck.Check, withCheck.CheckPath = full.Check, full.CheckPath
 	withSweep := modelOnly
 	withSweep.Sweep, withSweep.SweepPath = full.Sweep, full.SweepPath
+	// A sweep of objectives that do not depend on C draws only
+	// horizontal lines.
+	flat := *full.Sweep
+	flat.Rows = nil
+	for _, r := range full.Sweep.Rows {
+		if r.Setting.Objective != trainer.Linear {
+			flat.Rows = append(flat.Rows, r)
+		}
+	}
+	flat.K, flat.Selected = len(flat.Rows), 0
+	noLinear := modelOnly
+	noLinear.Sweep = &flat
 	cases := []struct {
 		name    string
 		in      report.Input
 		present []string
 		absent  []string
 	}{
+		{"sweep without linear rows", noLinear,
+			[]string{`id="plot-sweep"`, "no linear setting"}, nil},
 		{"model only", modelOnly,
 			[]string{`id="certificate"`, `id="ledger-table"`, `id="data-table"`, `id="voters-table"`, `id="plot-weights"`, `id="plot-margins"`, `id="cautions"`, `id="meaning"`},
 			[]string{`id="check"`, `id="sweep"`, `id="plot-check"`, `id="plot-sweep"`}},
