@@ -100,3 +100,100 @@ func TestHouseVotes(t *testing.T) {
 		})
 	}
 }
+
+// classSubset keeps the rows of t whose class is one of names, as a table
+// whose classes are names (in that order).
+func classSubset(t *datasets.Table, names ...string) *datasets.Table {
+	code := map[int]int{}
+	for j, n := range names {
+		for i, c := range t.Classes {
+			if c == n {
+				code[i] = j
+			}
+		}
+	}
+	var rows []int
+	for r, c := range t.Label {
+		if _, ok := code[c]; ok {
+			rows = append(rows, r)
+		}
+	}
+	s := subset(t, rows)
+	for i, c := range s.Label {
+		s.Label[i] = code[c]
+	}
+	s.Classes = names
+	return s
+}
+
+// On golearn's MNIST sample (5,000 training and 500 test images of 28 x 28
+// pixels): train on mnist_train.csv, test on mnist_test.csv, the 10-class
+// problem and the hard pair 3 against 8, with the default pool (capped at
+// 2,048 of the stumps on 784 columns). The test error is within a stated
+// margin of scikit-learn's AdaBoost with 500 stumps
+// (testdata/trainer/baseline.csv), and the certificate holds up against
+// the test rows:
+//   - ten digits, 500 test rows: the certificate is at least the test error;
+//   - 3 against 8, 91 test rows: one error moves the rate 1.1 points and its
+//     standard deviation is about 3, so the raw comparison is a coin toss
+//     near the bound (seed 3: 12 errors, 13.2%, against a certificate of
+//     10.8%). The test asks instead that the rows do not contradict it:
+//     their 95% lower limit (Clopper-Pearson) is at most the certificate,
+//     the verdict of Check.
+//
+// The margins are ours. Ten digits: no worse than AdaBoost (it is at 55.6%
+// with stumps that split one class from the rest; the pool's multiclass
+// linear voters do far better). The pair: 8 points, since Surety fits its
+// shipped vote on half the training rows (the other half certifies) and
+// the test error itself is that noisy.
+func TestMNIST(t *testing.T) {
+	if testing.Short() {
+		t.Skip("MNIST: about half a minute")
+	}
+	train, err := datasets.ReadFile(ucidata.Path(t, "mnist_train.csv"), datasets.ReadOptions{Label: "label"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	test, err := datasets.ReadFile(ucidata.Path(t, "mnist_test.csv"), datasets.ReadOptions{Label: "label"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	cases := []struct {
+		name, baseline string
+		train, test    *datasets.Table
+		margin         float64
+		strict         bool // certificate >= raw test error
+	}{
+		{"ten digits", "mnist-10", train, test, 0, true},
+		{"3 against 8", "mnist-3v8", classSubset(train, "3", "8"), classSubset(test, "3", "8"), 0.08, false},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			m, err := Train(context.Background(), c.train, Config{Seed: 3})
+			if err != nil {
+				t.Fatal(err)
+			}
+			errs, err := m.CountErrors(c.test)
+			if err != nil {
+				t.Fatal(err)
+			}
+			testErr := float64(errs) / float64(c.test.Rows)
+			base := baseline(t, c.baseline)
+			t.Logf("%s: pool %d, certificate %.4f (%s), certify-row error %.4f, test error %.4f on %d rows, AdaBoost %.4f",
+				c.name, m.Provenance.PoolSize, m.Certificate.RiskBound, m.Certificate.Family, m.Empirical.VoteError, testErr, c.test.Rows, base)
+			if c.strict && m.Certificate.RiskBound < testErr {
+				t.Errorf("certificate %.4f below the test error %.4f", m.Certificate.RiskBound, testErr)
+			}
+			chk, err := Check(m, c.test, CheckConfig{Delta: 0.05})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !chk.Consistent {
+				t.Errorf("the test rows contradict the certificate: %s", chk.Verdict)
+			}
+			if testErr > base+c.margin {
+				t.Errorf("test error %.4f more than %.2f above the AdaBoost baseline %.4f", testErr, c.margin, base)
+			}
+		})
+	}
+}
