@@ -95,8 +95,7 @@ func parseAndRun(ctx context.Context, r registration, args []string, e *env) int
 	}
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, pflag.ErrHelp) {
-			fs.Usage()
-			return 0
+			return 0 // pflag has called fs.Usage
 		}
 		fmt.Fprintf(e.stderr, "surety %s: %v\n", r.name, err)
 		return 2

@@ -31,6 +31,7 @@ type trainOptions struct {
 	seed          uint64
 	thresholds    int
 	linearVoters  int
+	maxVoters     int
 	out           string
 	json          bool
 }
@@ -54,6 +55,8 @@ func (o *trainOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.Var(&intRange{v: &o.thresholds, lo: 1, hi: 1 << 16, what: "--thresholds"}, "thresholds", "stump thresholds per numeric column (quantiles of the prior rows)")
 	o.linearVoters = 32
 	fs.Var(&intRange{v: &o.linearVoters, lo: 0, hi: 1 << 16, what: "--linear-voters"}, "linear-voters", "number of logistic-regression voters (0 for none)")
+	o.maxVoters = voters.DefaultMaxVoters
+	fs.Var(&intRange{v: &o.maxVoters, lo: 1, hi: 1 << 16, what: "--max-voters"}, "max-voters", "largest pool, linear voters included; past it the stumps with the fewest prior-row errors are kept")
 	fs.StringVar(&o.out, "out", "model.json", "model `file` to write")
 	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of text")
 }
@@ -70,7 +73,7 @@ func (o *trainOptions) config() (trainer.Config, error) {
 		PriorFraction: o.priorFraction,
 		Prior:         trainer.PriorKind(o.prior),
 		Seed:          o.seed,
-		Pool:          poolConfig(o.thresholds, o.linearVoters),
+		Pool:          poolConfig(o.thresholds, o.linearVoters, o.maxVoters),
 	}, nil
 }
 
@@ -223,6 +226,6 @@ func printCautions(w io.Writer) {
 	}
 }
 
-func poolConfig(thresholds, linear int) voters.PoolConfig {
-	return voters.PoolConfig{Thresholds: thresholds, LinearVoters: &linear}
+func poolConfig(thresholds, linear, maxVoters int) voters.PoolConfig {
+	return voters.PoolConfig{Thresholds: thresholds, LinearVoters: &linear, MaxVoters: maxVoters}
 }
