@@ -137,8 +137,8 @@ func Check(m *Model, t *datasets.Table, cfg CheckConfig) (*CheckResult, error) {
 	}
 	res.Consistent = res.Lower.Value <= res.ModelBound
 	if res.Consistent {
-		res.Verdict = fmt.Sprintf("consistent: the fresh rows' error rate, %s (at least %s), is within the training certificate's bound of %s",
-			Percent(res.ErrorRate, false), Percent(res.Lower.Value, false), Percent(res.ModelBound, true))
+		res.Verdict = fmt.Sprintf("consistent: the fresh rows' error rate, %.2f%% (at least %s), is within the training certificate's bound of %s",
+			100*res.ErrorRate, Percent(res.Lower.Value, false), Percent(res.ModelBound, true))
 	} else {
 		res.Verdict = fmt.Sprintf("the fresh rows' error exceeds the training certificate's bound: at least %s against at most %s; the data may have drifted, or this is the delta case",
 			Percent(res.Lower.Value, false), Percent(res.ModelBound, true))

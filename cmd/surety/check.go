@@ -106,18 +106,21 @@ func printCheck(w io.Writer, modelPath, dataPath string, m *trainer.Model, r *tr
 	for _, c := range r.Classes {
 		width = max(width, len(c))
 	}
+	// Each count column is as wide as its class name, at least 8.
+	col := make([]int, len(m.Classes))
 	cells := make([]string, 0, len(m.Classes)+2)
 	cells = append(cells, fmt.Sprintf("%-*s", width, "true class"))
-	for _, c := range m.Classes {
-		cells = append(cells, fmt.Sprintf("%8s", c))
+	for j, c := range m.Classes {
+		col[j] = max(8, len(c))
+		cells = append(cells, fmt.Sprintf("%*s", col[j], c))
 	}
 	cells = append(cells, fmt.Sprintf("%8s", "tie"))
 	fmt.Fprintf(w, "  %s\n", strings.Join(cells, " "))
 	for i, c := range r.Classes {
 		cells = cells[:0]
 		cells = append(cells, fmt.Sprintf("%-*s", width, c))
-		for _, n := range r.Confusion[i] {
-			cells = append(cells, fmt.Sprintf("%8d", n))
+		for j, n := range r.Confusion[i] {
+			cells = append(cells, fmt.Sprintf("%*d", col[j], n))
 		}
 		cells = append(cells, fmt.Sprintf("%8d", r.Ties[i]))
 		fmt.Fprintf(w, "  %s\n", strings.Join(cells, " "))
