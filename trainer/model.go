@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"cmp"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -118,35 +119,72 @@ func WriteModel(path string, m *Model) error {
 // WriteFileAtomic writes data to path through a temporary file in the same
 // folder and a rename.
 func WriteFileAtomic(path string, data []byte) error {
+	f, err := CreateAtomic(path)
+	if err != nil {
+		return err
+	}
+	defer f.Abort()
+	if _, err := f.Write(data); err != nil {
+		return fmt.Errorf("trainer: writing %s: %w", path, err)
+	}
+	return f.Commit()
+}
+
+// AtomicFile is an output file written as a stream and put in place at the
+// end: the bytes go to a temporary file in the same folder, which Commit
+// syncs and renames over the path, so readers never see a partial file and
+// a failed run leaves any earlier file untouched.
+type AtomicFile struct {
+	*os.File
+	path string
+	done bool
+}
+
+// CreateAtomic starts an AtomicFile for path. Call Commit when every byte
+// is written, and defer Abort, which removes the temporary file unless
+// Commit put it in place.
+func CreateAtomic(path string) (*AtomicFile, error) {
 	dir := filepath.Dir(path)
 	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
 	if err != nil {
-		return fmt.Errorf("trainer: %w", err)
+		if fi, serr := os.Stat(dir); serr != nil || !fi.IsDir() {
+			return nil, fmt.Errorf("trainer: writing %s: the folder %s does not exist", path, dir)
+		}
+		var pe *os.PathError
+		if errors.As(err, &pe) {
+			err = pe.Err
+		}
+		return nil, fmt.Errorf("trainer: writing %s: cannot create a file in %s: %w", path, dir, err)
 	}
-	tmp := f.Name()
-	fail := func(err error) error {
-		f.Close()
-		os.Remove(tmp)
-		return fmt.Errorf("trainer: writing %s: %w", path, err)
+	return &AtomicFile{File: f, path: path}, nil
+}
+
+// Commit syncs the temporary file and renames it over the path.
+func (a *AtomicFile) Commit() error {
+	err := a.Sync()
+	if err == nil {
+		err = a.Chmod(0o644)
 	}
-	if _, err := f.Write(data); err != nil {
-		return fail(err)
+	if cerr := a.Close(); err == nil {
+		err = cerr
 	}
-	if err := f.Sync(); err != nil {
-		return fail(err)
+	if err == nil {
+		err = os.Rename(a.Name(), a.path)
 	}
-	if err := f.Chmod(0o644); err != nil {
-		return fail(err)
+	if err != nil {
+		os.Remove(a.Name())
+		return fmt.Errorf("trainer: writing %s: %w", a.path, err)
 	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("trainer: writing %s: %w", path, err)
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return fmt.Errorf("trainer: writing %s: %w", path, err)
-	}
+	a.done = true
 	return nil
+}
+
+// Abort removes the temporary file unless Commit put it in place.
+func (a *AtomicFile) Abort() {
+	if !a.done {
+		a.Close()
+		os.Remove(a.Name())
+	}
 }
 
 // ReadModelFile reads and validates a model file.

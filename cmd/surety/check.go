@@ -56,12 +56,7 @@ func (o *checkOptions) run(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
-	if m.Label == "" {
-		return fmt.Errorf("%s: the model names no label column, so fresh rows cannot be checked against it", o.model)
-	}
-	ro := m.ReadOptions()
-	ro.NoLabel, ro.Label = false, m.Label
-	t, err := o.data.read(e, ro)
+	t, err := readLabelled(e, &o.data, m, o.model)
 	if err != nil {
 		return err
 	}

@@ -8,6 +8,7 @@ import (
 	"github.com/spf13/pflag"
 
 	"surety/datasets"
+	"surety/trainer"
 )
 
 // dataFlags are the flags that say how to read a CSV file, shared by every
@@ -87,4 +88,15 @@ func (d *dataFlags) read(e *env, base datasets.ReadOptions) (*datasets.Table, er
 		return datasets.Read(e.stdin, "-", o)
 	}
 	return datasets.ReadFile(d.path, o)
+}
+
+// readLabelled reads fresh rows for model m (read from modelPath) with
+// its schema and its label column, which they must hold.
+func readLabelled(e *env, d *dataFlags, m *trainer.Model, modelPath string) (*datasets.Table, error) {
+	if m.Label == "" {
+		return nil, fmt.Errorf("%s: the model names no label column, so fresh rows cannot be checked against it", modelPath)
+	}
+	ro := m.ReadOptions()
+	ro.NoLabel, ro.Label = false, m.Label
+	return d.read(e, ro)
 }

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"os"
-	"path/filepath"
 	"strconv"
 
 	"github.com/spf13/pflag"
@@ -85,12 +84,12 @@ func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 
 	collect := o.json && o.out == ""
 	var dst io.Writer = e.stdout
-	var file *atomicFile
+	var file *trainer.AtomicFile
 	if o.out != "" {
-		if file, err = createAtomic(o.out); err != nil {
+		if file, err = trainer.CreateAtomic(o.out); err != nil {
 			return err
 		}
-		defer file.abort()
+		defer file.Abort()
 		dst = file
 	}
 	counts := map[string]int{}
@@ -141,7 +140,7 @@ func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 	if file == nil {
 		return nil
 	}
-	if err := file.commit(); err != nil {
+	if err := file.Commit(); err != nil {
 		return err
 	}
 	if o.json {
@@ -176,50 +175,4 @@ func appendCSVField(b []byte, s string) []byte {
 		b = append(b, s[i])
 	}
 	return append(b, '"')
-}
-
-// atomicFile is an output file written as a stream and put in place at the
-// end: the bytes go to a temporary file in the same folder, which commit
-// syncs and renames over the path, so readers never see a partial file and
-// a failed run leaves any earlier file untouched.
-type atomicFile struct {
-	*os.File
-	path string
-	done bool
-}
-
-func createAtomic(path string) (*atomicFile, error) {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return nil, fmt.Errorf("writing %s: %w", path, err)
-	}
-	return &atomicFile{File: f, path: path}, nil
-}
-
-// commit syncs the temporary file and renames it over the path.
-func (a *atomicFile) commit() error {
-	err := a.Sync()
-	if err == nil {
-		err = a.Chmod(0o644)
-	}
-	if cerr := a.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(a.Name(), a.path)
-	}
-	if err != nil {
-		os.Remove(a.Name())
-		return fmt.Errorf("writing %s: %w", a.path, err)
-	}
-	a.done = true
-	return nil
-}
-
-// abort removes the temporary file unless commit put it in place.
-func (a *atomicFile) abort() {
-	if !a.done {
-		a.Close()
-		os.Remove(a.Name())
-	}
 }

@@ -9,7 +9,6 @@ import (
 
 	"github.com/spf13/pflag"
 
-	"surety/datasets"
 	"surety/trainer"
 	"surety/trainer/report"
 )
@@ -107,17 +106,6 @@ func (o *reportOptions) run(ctx context.Context, args []string, e *env) error {
 	}
 	fmt.Fprintf(e.stdout, "report written to %s (%d plots: %v)\n", o.out, len(plots), plots)
 	return nil
-}
-
-// readLabelled reads fresh rows for model m (read from modelPath) with
-// its schema and its label column, which they must hold.
-func readLabelled(e *env, d *dataFlags, m *trainer.Model, modelPath string) (*datasets.Table, error) {
-	if m.Label == "" {
-		return nil, fmt.Errorf("%s: the model names no label column, so fresh rows cannot be checked against it", modelPath)
-	}
-	ro := m.ReadOptions()
-	ro.NoLabel, ro.Label = false, m.Label
-	return d.read(e, ro)
 }
 
 // sweepFile is the sweep.json inside a sweep's folder, or the path itself
