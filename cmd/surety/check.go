@@ -46,13 +46,7 @@ type checkJSON struct {
 }
 
 func (o *checkOptions) run(ctx context.Context, args []string, e *env) error {
-	if len(args) > 0 {
-		return usagef("unexpected argument %q", args[0])
-	}
-	if o.model == "" {
-		return usagef("--model is required")
-	}
-	m, err := trainer.ReadModelFile(o.model)
+	m, err := modelArg(args, o.model)
 	if err != nil {
 		return err
 	}

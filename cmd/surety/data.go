@@ -100,3 +100,15 @@ func readLabelled(e *env, d *dataFlags, m *trainer.Model, modelPath string) (*da
 	ro.NoLabel, ro.Label = false, m.Label
 	return d.read(e, ro)
 }
+
+// modelArg reads the model named by --model for a command that takes no
+// arguments.
+func modelArg(args []string, path string) (*trainer.Model, error) {
+	if len(args) > 0 {
+		return nil, usagef("unexpected argument %q", args[0])
+	}
+	if path == "" {
+		return nil, usagef("--model is required")
+	}
+	return trainer.ReadModelFile(path)
+}

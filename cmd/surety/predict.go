@@ -55,13 +55,7 @@ type predictionJSON struct {
 // the class counts ahead of the predictions, so it keeps every row's class
 // and margin (16 bytes a row) until the end.
 func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
-	if len(args) > 0 {
-		return usagef("unexpected argument %q", args[0])
-	}
-	if o.model == "" {
-		return usagef("--model is required")
-	}
-	m, err := trainer.ReadModelFile(o.model)
+	m, err := modelArg(args, o.model)
 	if err != nil {
 		return err
 	}
