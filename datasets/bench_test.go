@@ -144,26 +144,7 @@ func BenchmarkReadNumeric(b *testing.B) {
 			}
 			colBytes := float64(sz.rows * sz.cols * 8)
 			run := func(b *testing.B, read func() (int, error)) {
-				b.SetBytes(size)
-				b.ReportAllocs()
-				check := func() {
-					n, err := read()
-					if err != nil {
-						b.Fatal(err)
-					}
-					if n != sz.rows {
-						b.Fatalf("%d rows, want %d", n, sz.rows)
-					}
-				}
-				for b.Loop() {
-					check()
-				}
-				// The peak of one read from a collected heap: across the
-				// loop it would also hold earlier tables not yet collected.
-				b.StopTimer()
-				stop := heapPeak()
-				check()
-				peak := float64(stop())
+				peak := float64(benchRead(b, size, sz.rows, read))
 				b.ReportMetric(peak/1e6, "peak-heap-MB")
 				b.ReportMetric(peak/colBytes, "peak/cols")
 			}
@@ -187,4 +168,29 @@ func BenchmarkReadNumeric(b *testing.B) {
 			})
 		})
 	}
+}
+
+// benchRead times read over the benchmark loop and returns the heap peak
+// of one more read from a collected heap (across the loop the heap would
+// also hold earlier tables not yet collected). read returns its row count,
+// which must be rows.
+func benchRead(b *testing.B, size int64, rows int, read func() (int, error)) uint64 {
+	b.SetBytes(size)
+	b.ReportAllocs()
+	check := func() {
+		n, err := read()
+		if err != nil {
+			b.Fatal(err)
+		}
+		if n != rows {
+			b.Fatalf("%d rows, want %d", n, rows)
+		}
+	}
+	for b.Loop() {
+		check()
+	}
+	b.StopTimer()
+	stop := heapPeak()
+	check()
+	return stop()
 }

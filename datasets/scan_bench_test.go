@@ -31,24 +31,7 @@ func BenchmarkScanNumeric(b *testing.B) {
 				opts.Kinds["x"+strconv.Itoa(j)] = Numeric
 			}
 			run := func(b *testing.B, read func() (int, error)) {
-				b.SetBytes(size)
-				b.ReportAllocs()
-				check := func() {
-					n, err := read()
-					if err != nil {
-						b.Fatal(err)
-					}
-					if n != sz.rows {
-						b.Fatalf("%d rows, want %d", n, sz.rows)
-					}
-				}
-				for b.Loop() {
-					check()
-				}
-				b.StopTimer()
-				stop := heapPeak()
-				check()
-				b.ReportMetric(float64(stop())/1e6, "peak-heap-MB")
+				b.ReportMetric(float64(benchRead(b, size, sz.rows, read))/1e6, "peak-heap-MB")
 			}
 			b.Run("ReadFile", func(b *testing.B) {
 				run(b, func() (int, error) {

@@ -2,7 +2,6 @@ package main
 
 import (
 	"path/filepath"
-	"strings"
 	"testing"
 )
 
@@ -13,20 +12,8 @@ func TestTrainShowGolden(t *testing.T) {
 	dir := t.TempDir()
 	data := demoFile(t, dir, 1200)
 	model := filepath.Join(dir, "model.json")
-	cases := []struct {
-		name, golden string
-		args         []string
-	}{
+	runGolden(t, dir, []goldenCase{
 		{"train", "train-demo.txt", []string{"train", "--data", data, "--label", "leaked", "--out", model, "--linear-voters", "4", "--thresholds", "8"}},
 		{"show", "show-demo.txt", []string{"show", model, "--top", "5"}},
-	}
-	for _, c := range cases {
-		t.Run(c.name, func(t *testing.T) {
-			out, errs, code := runCLI(t, c.args...)
-			if code != 0 {
-				t.Fatalf("exit %d: %s", code, errs)
-			}
-			checkGolden(t, c.golden, strings.ReplaceAll(out, dir, "$DIR"))
-		})
-	}
+	})
 }
