@@ -33,6 +33,11 @@ type ReadOptions struct {
 	// NoLabel reads feature columns only (for prediction on unlabelled
 	// rows): Table.Classes and Table.Label are nil.
 	NoLabel bool
+	// OneClass accepts a label with a single class, as fresh rows checked
+	// against a model may hold (a batch of one class only); without it
+	// such a label is an error (ErrOneClass), since nothing can be
+	// trained on it.
+	OneClass bool
 	// Categorical forces these columns categorical: cells are kept as text.
 	Categorical []string
 	// Ignore skips these columns.
@@ -449,7 +454,7 @@ func (m *merger) finish(opts ReadOptions) (*Table, *ParseError) {
 		}
 		switch c.mode {
 		case modeLabel:
-			if perr := m.label(t, c, name); perr != nil {
+			if perr := m.label(t, c, name, opts.OneClass); perr != nil {
 				return nil, perr
 			}
 			continue
@@ -487,9 +492,10 @@ func (m *merger) finish(opts ReadOptions) (*Table, *ParseError) {
 	return t, nil
 }
 
-// label sorts the class names and turns the codes into class indices.
-func (m *merger) label(t *Table, c *colState, name string) *ParseError {
-	if len(c.levels) < 2 {
+// label sorts the class names and turns the codes into class indices; a
+// single class is an error unless oneClass.
+func (m *merger) label(t *Table, c *colState, name string, oneClass bool) *ParseError {
+	if len(c.levels) < 2 && !(oneClass && len(c.levels) == 1) {
 		e := &ParseError{File: m.p.file, Column: c.field + 1, ColumnName: name, Err: ErrOneClass}
 		if len(c.levels) == 1 {
 			e.Field = c.levels[0]

@@ -444,3 +444,18 @@ func TestParseNumber(t *testing.T) {
 		})
 	}
 }
+
+// OneClass lets a label with one class through (fresh rows to check), and
+// nothing else: a label with no class at all is still an error.
+func TestReadOneClass(t *testing.T) {
+	tab, err := Read(strings.NewReader("x,label\n1,a\n2,a\n"), "one.csv", ReadOptions{OneClass: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(tab.Classes) != 1 || tab.Classes[0] != "a" || tab.Rows != 2 || tab.Label[1] != 0 {
+		t.Errorf("classes %v, %d rows, labels %v", tab.Classes, tab.Rows, tab.Label)
+	}
+	if _, err := Read(strings.NewReader("x,label\n"), "none.csv", ReadOptions{OneClass: true}); err == nil {
+		t.Error("no rows and no class: no error")
+	}
+}

@@ -136,12 +136,16 @@ func Check(m *Model, t *datasets.Table, cfg CheckConfig) (*CheckResult, error) {
 		return nil, fmt.Errorf("trainer: check: %w", err)
 	}
 	res.Consistent = res.Lower.Value <= res.ModelBound
-	if res.Consistent {
-		res.Verdict = fmt.Sprintf("consistent: the fresh rows' error rate, %.2f%% (at least %s), is within the training certificate's bound of %s",
-			100*res.ErrorRate, Percent(res.Lower.Value, false), Percent(res.ModelBound, true))
-	} else {
+	switch {
+	case !res.Consistent:
 		res.Verdict = fmt.Sprintf("the fresh rows' error exceeds the training certificate's bound: at least %s against at most %s; the data may have drifted, or this is the delta case",
 			Percent(res.Lower.Value, false), Percent(res.ModelBound, true))
+	case res.ErrorRate > res.ModelBound:
+		res.Verdict = fmt.Sprintf("consistent, though barely: the fresh rows' error rate, %.2f%%, is above the training certificate's bound of %s, but its lower limit, %s, is not; %d rows are too few to tell",
+			100*res.ErrorRate, Percent(res.ModelBound, true), Percent(res.Lower.Value, false), res.Rows)
+	default:
+		res.Verdict = fmt.Sprintf("consistent: the fresh rows' error rate, %.2f%% (at least %s), is within the training certificate's bound of %s",
+			100*res.ErrorRate, Percent(res.Lower.Value, false), Percent(res.ModelBound, true))
 	}
 	if cfg.Population != 0 {
 		b, err := objective.PopulationBound(res.Errors, res.Rows, cfg.Population, cfg.Delta)

@@ -86,6 +86,41 @@ func TestCheck(t *testing.T) {
 	}
 }
 
+// A few fresh rows whose error rate is above the certificate but whose
+// lower limit is not: consistent, and the verdict says the rows are too few.
+func TestCheckTooFewToTell(t *testing.T) {
+	m, err := Train(context.Background(), demoTable(t, 800, 2), Config{Seed: 1, Pool: voters.PoolConfig{Thresholds: 8, LinearVoters: intp(2)}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	fresh := demoTable(t, 30, 5)
+	cls, _, err := m.Predict(fresh)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := int(math.Ceil(30 * (m.Certificate.RiskBound + 0.05)))
+	errs, _ := m.CountErrors(fresh)
+	for i := range cls {
+		if errs >= want {
+			break
+		}
+		if m.Classes[cls[i]] == fresh.Classes[fresh.Label[i]] {
+			fresh.Label[i] = 1 - fresh.Label[i]
+			errs++
+		}
+	}
+	res, err := Check(m, fresh, CheckConfig{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !(res.ErrorRate > res.ModelBound && res.Lower.Value <= res.ModelBound) {
+		t.Fatalf("set-up: rate %v, lower %v, bound %v", res.ErrorRate, res.Lower.Value, res.ModelBound)
+	}
+	if !res.Consistent || !strings.Contains(res.Verdict, "too few to tell") {
+		t.Errorf("consistent %v, verdict %q", res.Consistent, res.Verdict)
+	}
+}
+
 func TestCheckRejects(t *testing.T) {
 	m, err := Train(context.Background(), demoTable(t, 400, 2), Config{Seed: 1, Pool: voters.PoolConfig{Thresholds: 4, LinearVoters: intp(0)}})
 	if err != nil {

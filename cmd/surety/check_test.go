@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -174,6 +175,45 @@ func TestCheckFailures(t *testing.T) {
 			}
 			if out != "" {
 				t.Errorf("a failed check printed %q", out)
+			}
+		})
+	}
+}
+
+// Fresh rows of one class only (a batch of leaks) are an ordinary thing to
+// check: check, sweep --test and report --check all take them.
+func TestCheckOneClass(t *testing.T) {
+	dir := t.TempDir()
+	model := checkFixture(t, dir)
+	fresh := demoRows(t, dir, "fresh.csv", demodata.Config{Rows: 300}, 11)
+	b, err := os.ReadFile(fresh)
+	if err != nil {
+		t.Fatal(err)
+	}
+	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	leaks := []string{lines[0]}
+	for _, l := range lines[1:] {
+		if strings.HasSuffix(l, ",leak") {
+			leaks = append(leaks, l)
+		}
+	}
+	one := filepath.Join(dir, "leaks.csv")
+	if err := os.WriteFile(one, []byte(strings.Join(leaks, "\n")+"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	data := demoRows(t, dir, "train.csv", demodata.Config{Rows: 600}, 12)
+	for _, args := range [][]string{
+		{"check", "--model", model, "--data", one},
+		{"report", "--model", model, "--check", one, "--out", filepath.Join(dir, "r.html")},
+		{"sweep", "--data", data, "--label", "leaked", "--objective", "tandem", "--prior", "uniform", "--linear-voters", "2", "--test", one},
+	} {
+		t.Run(args[0], func(t *testing.T) {
+			out, errs, code := runCLI(t, args...)
+			if code != 0 {
+				t.Fatalf("exit %d: %s", code, errs)
+			}
+			if args[0] == "check" && !strings.Contains(out, fmt.Sprintf("%d labelled rows", len(leaks)-1)) {
+				t.Errorf("output lacks the row count:\n%s", out)
 			}
 		})
 	}

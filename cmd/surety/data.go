@@ -91,13 +91,14 @@ func (d *dataFlags) read(e *env, base datasets.ReadOptions) (*datasets.Table, er
 }
 
 // readLabelled reads fresh rows for model m (read from modelPath) with
-// its schema and its label column, which they must hold.
+// its schema and its label column, which they must hold; one class is
+// enough (a batch of one class is an ordinary thing to check).
 func readLabelled(e *env, d *dataFlags, m *trainer.Model, modelPath string) (*datasets.Table, error) {
 	if m.Label == "" {
 		return nil, fmt.Errorf("%s: the model names no label column, so fresh rows cannot be checked against it", modelPath)
 	}
 	ro := m.ReadOptions()
-	ro.NoLabel, ro.Label = false, m.Label
+	ro.NoLabel, ro.Label, ro.OneClass = false, m.Label, true
 	return d.read(e, ro)
 }
 

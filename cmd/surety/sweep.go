@@ -120,9 +120,7 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 func (o *sweepOptions) checkTest(e *env, t *datasets.Table, res *trainer.SweepResult) error {
 	d := o.train.data
 	d.path = o.test
-	ro := res.Models[0].ReadOptions()
-	ro.NoLabel, ro.Label = false, t.LabelName
-	test, err := d.read(e, ro)
+	test, err := readLabelled(e, &d, res.Models[0], "the sweep's model")
 	if err != nil {
 		return err
 	}
