@@ -221,7 +221,7 @@ func (p *plan) resolve(opts ReadOptions, line int) *ParseError {
 	find := func(nm, what string) (int, *ParseError) {
 		f, ok := index[nm]
 		if !ok {
-			return 0, fail(nm, fmt.Errorf("%w (named in %s; columns: %s)", ErrUnknownColumn, what, strings.Join(p.names, ", ")))
+			return 0, fail(nm, fmt.Errorf("%w (it is one of %s; the file's columns: %s)", ErrUnknownColumn, what, strings.Join(p.names, ", ")))
 		}
 		return f, nil
 	}
@@ -243,7 +243,7 @@ func (p *plan) resolve(opts ReadOptions, line int) *ParseError {
 		p.modes[f] = modeLabel
 	}
 	for _, nm := range opts.Ignore {
-		f, perr := find(nm, "Ignore")
+		f, perr := find(nm, "the columns to ignore")
 		if perr != nil {
 			return perr
 		}
@@ -272,7 +272,7 @@ func (p *plan) resolve(opts ReadOptions, line int) *ParseError {
 		return nil
 	}
 	for _, nm := range opts.Categorical {
-		if perr := force(nm, modeCat, "Categorical"); perr != nil {
+		if perr := force(nm, modeCat, "the columns to read as categories"); perr != nil {
 			return perr
 		}
 	}
@@ -291,7 +291,7 @@ func (p *plan) resolve(opts ReadOptions, line int) *ParseError {
 		default:
 			return fail(nm, fmt.Errorf("%w: unknown kind %d in Kinds", ErrOptions, opts.Kinds[nm]))
 		}
-		if perr := force(nm, m, "Kinds"); perr != nil {
+		if perr := force(nm, m, "the columns expected (a model's schema)"); perr != nil {
 			return perr
 		}
 	}

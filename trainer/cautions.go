@@ -42,3 +42,9 @@ func Percent(x float64, up bool) string {
 	}
 	return strconv.FormatFloat(v/scale, 'f', -1, 64) + "%"
 }
+
+// FormatBound prints an upper bound at four decimals, rounded up, so a
+// table never shows less than the bound it stands for.
+func FormatBound(x float64) string {
+	return strconv.FormatFloat(math.Ceil(x*1e4)/1e4, 'f', 4, 64)
+}

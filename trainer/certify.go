@@ -89,18 +89,21 @@ type Histogram struct {
 // MarginBins is the number of bins of Empirical.Margins over [-1, 1].
 const MarginBins = 40
 
-// marginHistogram bins signed margins in [-1, 1]. A wrong vote's margin of
-// zero (a tie, -0 after negation) goes to the bin below zero, with the
-// errors it is.
+// marginHistogram bins signed margins in [-1, 1]. The side of zero comes
+// from the sign first, so a wrong vote's margin goes below zero however
+// small it is (-0 for a tie, or -1e-17, which 1 + x would round to 1).
 func marginHistogram(ms []float64) *Histogram {
 	h := &Histogram{Lo: -1, Hi: 1, Counts: make([]int, MarginBins)}
+	half := MarginBins / 2
 	w := (h.Hi - h.Lo) / MarginBins
 	for _, x := range ms {
-		i := int(math.Floor((x - h.Lo) / w))
-		if x == 0 && math.Signbit(x) {
-			i = MarginBins/2 - 1
+		var i int
+		if x < 0 || math.Signbit(x) {
+			i = half - 1 - min(half-1, int(math.Floor(-x/w)))
+		} else {
+			i = half + min(half-1, int(math.Floor(x/w)))
 		}
-		h.Counts[max(0, min(MarginBins-1, i))]++
+		h.Counts[i]++
 	}
 	return h
 }

@@ -143,3 +143,29 @@ func TestCheckRejects(t *testing.T) {
 		})
 	}
 }
+
+func TestMarginHistogram(t *testing.T) {
+	cases := []struct {
+		name string
+		x    float64
+		bin  int
+	}{
+		{"tie", math.Copysign(0, -1), 19},
+		{"tiny negative", -1e-17, 19},
+		{"float noise", -5.551115123125783e-17, 19}, // 0.3 - (0.1 + 0.2) in float64
+		{"zero", 0, 20},
+		{"tiny positive", 1e-17, 20},
+		{"one", 1, 39},
+		{"minus one", -1, 0},
+		{"just below a bin edge", -0.05, 18},
+		{"just above", 0.05, 21},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			h := marginHistogram([]float64{c.x})
+			if h.Counts[c.bin] != 1 {
+				t.Errorf("%v: counts %v, want bin %d", c.x, h.Counts, c.bin)
+			}
+		})
+	}
+}

@@ -64,10 +64,29 @@ type Provenance struct {
 	PriorFraction float64              `json:"prior_fraction"`
 	Pool          voters.PoolConfig    `json:"pool"`
 	Optimizer     OptimizerResult      `json:"optimizer"`
-	// SweepSettings, when not zero, is the number K of settings this model's
-	// setting was selected from; its certificate is then computed at delta
-	// / K (each family at delta / (K F)) although it states delta.
-	SweepSettings int `json:"sweep_settings,omitempty"`
+	// SweepSettings, when not zero, is the number K of settings of the sweep
+	// this model came from. SweepSelected says it is the selection: its
+	// certificate is then computed at delta / K (each family at delta /
+	// (K F)) although it states delta. A sweep's other models are certified
+	// at delta, which holds only for a setting fixed before the sweep.
+	SweepSettings int  `json:"sweep_settings,omitempty"`
+	SweepSelected bool `json:"sweep_selected,omitempty"`
+}
+
+// SweepNote says, for a model that came from a sweep, what its certificate
+// holds for; "" for any other model.
+func (m *Model) SweepNote() string {
+	k := m.Provenance.SweepSettings
+	switch {
+	case k == 0:
+		return ""
+	case m.Provenance.SweepSelected:
+		return fmt.Sprintf("This setting was selected from %d settings of a sweep after seeing them all, so its certificate is computed at delta / %d = %.4g, although it states delta = %g.",
+			k, k, m.Certificate.Delta/float64(k), m.Certificate.Delta)
+	default:
+		return fmt.Sprintf("This model is one of %d settings of a sweep. Its certificate, at delta = %g, holds only for a setting fixed before the sweep was run; a setting picked after seeing the sweep needs the selection's certificate at delta / %d (the sweep's selected.json).",
+			k, m.Certificate.Delta, k)
+	}
 }
 
 // modelFile is the JSON layout of a model file.
@@ -144,6 +163,9 @@ type AtomicFile struct {
 // is written, and defer Abort, which removes the temporary file unless
 // Commit put it in place.
 func CreateAtomic(path string) (*AtomicFile, error) {
+	if fi, err := os.Stat(path); err == nil && fi.IsDir() {
+		return nil, fmt.Errorf("trainer: writing %s: it is a folder", path)
+	}
 	dir := filepath.Dir(path)
 	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
 	if err != nil {
@@ -235,6 +257,16 @@ func DecodeModel(r io.Reader) (*Model, error) {
 	}
 	if math.Abs(sum-1) > simplexTolerance {
 		return nil, fmt.Errorf("the weights sum to %v, not 1: they are not on the simplex", sum)
+	}
+	if h := f.Empirical.Margins; h != nil {
+		if !(h.Lo < h.Hi) || math.IsInf(h.Lo, 0) || math.IsInf(h.Hi, 0) || len(h.Counts) == 0 {
+			return nil, fmt.Errorf("the margin histogram's bins [%v, %v] x %d are not a histogram", h.Lo, h.Hi, len(h.Counts))
+		}
+		for i, n := range h.Counts {
+			if n < 0 {
+				return nil, fmt.Errorf("margin bin %d holds %d rows", i, n)
+			}
+		}
 	}
 	known := map[string]bool{}
 	for _, c := range f.Columns {

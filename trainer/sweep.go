@@ -12,10 +12,12 @@ import (
 )
 
 // Grid lists the settings of a sweep: every objective with every prior,
-// and for the linear objective every trade-off too, since the others do
-// not depend on it (so trying them at several trade-offs would only spend
-// delta). Duplicates are dropped; the order is objectives, then priors,
-// then trade-offs, as given.
+// and for the linear objective every trade-off too. The other objectives'
+// bounds do not contain the trade-off (it only places some of the
+// optimiser's starting points), so they get one setting each, at C = 1:
+// trying them at several trade-offs would spend delta on near-copies.
+// Duplicates are dropped; the order is objectives, then priors, then
+// trade-offs, as given.
 func Grid(objectives []Objective, tradeoffs []float64, priors []PriorKind) []Setting {
 	var out []Setting
 	for _, o := range objectives {
@@ -75,7 +77,10 @@ const HeavyWeight = 0.01
 
 // SweepResult is a sweep over K settings of one prepared table.
 type SweepResult struct {
-	Delta float64 `json:"delta"`
+	// Data is the fingerprint of the table swept, and Label its label.
+	Data  datasets.Fingerprint `json:"data"`
+	Label string               `json:"label"`
+	Delta float64              `json:"delta"`
 	// K is the number of settings; SelectionDelta is Delta / K.
 	K              int        `json:"settings"`
 	SelectionDelta float64    `json:"selection_delta"`
@@ -101,8 +106,15 @@ func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult,
 	if len(settings) == 0 {
 		return nil, fmt.Errorf("trainer: sweep: no settings")
 	}
+	for _, s := range settings {
+		cfg := p.cfg
+		cfg.Objective, cfg.Tradeoff, cfg.Prior = s.Objective, s.Tradeoff, s.Prior
+		if err := cfg.withDefaults().validate(len(p.t.Classes)); err != nil {
+			return nil, fmt.Errorf("trainer: sweep: setting %s: %w", s, err)
+		}
+	}
 	k := len(settings)
-	res := &SweepResult{Delta: p.cfg.Delta, K: k, SelectionDelta: p.cfg.Delta / float64(k)}
+	res := &SweepResult{Data: p.t.Fingerprint, Label: p.t.LabelName, Delta: p.cfg.Delta, K: k, SelectionDelta: p.cfg.Delta / float64(k)}
 	var fits []*fitted
 	best := math.Inf(1)
 	for i, s := range settings {
@@ -122,6 +134,7 @@ func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult,
 			VoteError: m.Empirical.VoteError, KL: m.Empirical.KL,
 			HeavyVoters: heavyVoters(m.Vote.Weights),
 		}
+		m.Provenance.SweepSettings = k
 		res.Rows = append(res.Rows, row)
 		res.Models = append(res.Models, m)
 		fits = append(fits, f)
@@ -136,7 +149,7 @@ func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult,
 	g.model = &sel
 	g.ship(cert)
 	sel.Certificate.Delta = p.cfg.Delta
-	sel.Provenance.SweepSettings = k
+	sel.Provenance.SweepSelected = true
 	res.SelectedModel = &sel
 	row := res.Rows[res.Selected]
 	res.Statement = fmt.Sprintf("Of %d settings, %s has the smallest certificate. Because it was chosen after seeing all %d, its certificate is recomputed at delta / %d = %.4g: %s (at delta = %g alone it would be %s, which holds only for a setting fixed in advance).",
@@ -162,6 +175,17 @@ func heavyVoters(w []float64) int {
 	}
 	return n
 }
+
+// Matches reports an error unless m was trained on the data r swept.
+func (r *SweepResult) Matches(m *Model) error {
+	if r.Data != m.Provenance.Data || r.Label != m.Label {
+		return fmt.Errorf("trainer: the sweep is of other data (sha256 %s, label %q) than the model (sha256 %s, label %q)",
+			short(r.Data.SHA256), r.Label, short(m.Provenance.Data.SHA256), m.Label)
+	}
+	return nil
+}
+
+func short(h string) string { return h[:min(len(h), 12)] }
 
 // ReadSweepFile reads the JSON of a SweepResult (its rows and selection;
 // the models are separate files).

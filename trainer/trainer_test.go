@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"strings"
 	"testing"
 
 	"surety/datasets"
@@ -188,6 +189,13 @@ func TestDecodeModelRejects(t *testing.T) {
 		{"voter on an unknown column", edit(func(v map[string]any) {
 			v["columns"] = v["columns"].([]any)[1:]
 		})},
+		{"negative margin count", edit(func(v map[string]any) {
+			c := v["empirical"].(map[string]any)["margins"].(map[string]any)["counts"].([]any)
+			c[0] = -5
+		})},
+		{"margin bins upside down", edit(func(v map[string]any) {
+			v["empirical"].(map[string]any)["margins"].(map[string]any)["lo"] = 2
+		})},
 		{"not json", []byte("{")},
 	}
 	for _, c := range cases {
@@ -248,3 +256,19 @@ func TestCoverage(t *testing.T) {
 }
 
 func intp(v int) *int { return &v }
+
+func TestCreateAtomicNamesTheTarget(t *testing.T) {
+	dir := t.TempDir()
+	cases := []struct{ name, path, want string }{
+		{"missing folder", filepath.Join(dir, "nowhere", "m.json"), "the folder " + filepath.Join(dir, "nowhere") + " does not exist"},
+		{"a folder", dir, dir + ": it is a folder"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			err := WriteFileAtomic(c.path, []byte("x"))
+			if err == nil || !strings.Contains(err.Error(), c.want) || strings.Contains(err.Error(), ".tmp-") {
+				t.Errorf("error %v, want one saying %q without the temporary name", err, c.want)
+			}
+		})
+	}
+}

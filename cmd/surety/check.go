@@ -72,8 +72,10 @@ func (o *checkOptions) run(ctx context.Context, args []string, e *env) error {
 func printCheck(w io.Writer, modelPath, dataPath string, m *trainer.Model, r *trainer.CheckResult) {
 	conf := trainer.Percent(1-r.Delta, false)
 	sel := ""
-	if k := m.Provenance.SweepSettings; k > 0 {
+	if k := m.Provenance.SweepSettings; k > 0 && m.Provenance.SweepSelected {
 		sel = fmt.Sprintf(", selected from %d settings so computed at delta / %d", k, k)
+	} else if k > 0 {
+		sel = fmt.Sprintf(", one of %d settings of a sweep: it holds only if this setting was fixed before the sweep", k)
 	}
 	fmt.Fprintf(w, "model  %s: label %q, certificate %s at delta %g (%s%s)\n", modelPath, m.Label, trainer.Percent(r.ModelBound, true), r.ModelDelta, m.Certificate.Family, sel)
 	fmt.Fprintf(w, "fresh  %s: %d labelled rows\n\n", dataPath, r.Rows)

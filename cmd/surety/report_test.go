@@ -47,6 +47,10 @@ func TestReportCommand(t *testing.T) {
 		t.Fatal(err)
 	}
 	out := filepath.Join(dir, "report.html")
+	other := filepath.Join(dir, "other.json") // trained on other rows than the sweep's
+	if _, errs, code := runSurety(t, "", "train", "--data", fresh, "--label", demodata.Label, "--out", other, "--linear-voters", "2", "--thresholds", "8"); code != 0 {
+		t.Fatalf("train exit %d: %s", code, errs)
+	}
 	cases := []struct {
 		name  string
 		args  []string
@@ -63,6 +67,7 @@ func TestReportCommand(t *testing.T) {
 		{"missing sweep", []string{"--model", model, "--sweep", filepath.Join(dir, "nowhere")}, 1, nil},
 		{"missing check file", []string{"--model", model, "--check", filepath.Join(dir, "nowhere.csv")}, 1, nil},
 		{"not a model", []string{"--model", fresh}, 1, nil},
+		{"sweep of other data", []string{"--model", other, "--sweep", sweepDir}, 1, nil},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -50,7 +50,7 @@ func (o *sweepOptions) AddFlags(fs *pflag.FlagSet) {
 				"objectives to try, comma-separated (cbound is dropped with a warning when the label has more than two classes)")
 		case "tradeoff":
 			fs.Var(&positiveList{v: &o.tradeoffs, what: "--tradeoff"}, "tradeoff",
-				"values of C to try in the linear objective, comma-separated (the other objectives do not use it)")
+				"values of C to try in the linear objective, comma-separated (the other objectives' bounds do not contain it: they are fitted once, at C = 1)")
 		case "prior":
 			fs.Var(&enumList{v: &o.priors, words: []string{"learned", "uniform"}}, "prior", "priors to try, comma-separated")
 		case "out":
@@ -216,7 +216,7 @@ func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir
 		width = max(width, len(r.Name))
 	}
 	head := fmt.Sprintf("  %-*s  %11s  %11s  %-18s  %10s  %8s  %7s", width, "setting", "certificate", "selection", "family", "vote error", "KL", "voters")
-	sub := fmt.Sprintf("  %-*s  %11s  %11s  %-18s  %10s  %8s  %7s", width, "", fmt.Sprintf("at %g", res.Delta), fmt.Sprintf("at %.2g", res.SelectionDelta), "", "certify", "", "> 1%")
+	sub := fmt.Sprintf("  %-*s  %11s  %11s  %-18s  %10s  %8s  %7s", width, "", fmt.Sprintf("at %g", res.Delta), fmt.Sprintf("at %.4g", res.SelectionDelta), "", "certify", "", "> 1%")
 	if hasTest {
 		head += fmt.Sprintf("  %10s  %10s", "test error", "test bound")
 		sub += fmt.Sprintf("  %10s  %10s", fmt.Sprintf("%d rows", res.Rows[0].Test.Rows), fmt.Sprintf("at %g", res.Delta))
@@ -224,9 +224,9 @@ func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir
 	fmt.Fprintln(w, head)
 	fmt.Fprintln(w, strings.TrimRight(sub, " "))
 	for i, r := range res.Rows {
-		line := fmt.Sprintf("  %-*s  %11.4f  %11.4f  %-18s  %10s  %8.4f  %7d", width, r.Name, r.Certificate, r.SelectionCertificate, r.Family, pct(r.VoteError), r.KL, r.HeavyVoters)
+		line := fmt.Sprintf("  %-*s  %11s  %11s  %-18s  %10s  %8.4f  %7d", width, r.Name, trainer.FormatBound(r.Certificate), trainer.FormatBound(r.SelectionCertificate), r.Family, pct(r.VoteError), r.KL, r.HeavyVoters)
 		if hasTest {
-			line += fmt.Sprintf("  %10s  %10.4f", pct(r.Test.ErrorRate), r.Test.Bound)
+			line += fmt.Sprintf("  %10s  %10s", pct(r.Test.ErrorRate), trainer.FormatBound(r.Test.Bound))
 		}
 		if i == res.Selected {
 			line += "  <- selected"

@@ -189,15 +189,22 @@ func printTrain(w io.Writer, t *datasets.Table, m *trainer.Model, path string) {
 func printCertificate(w io.Writer, m *trainer.Model) {
 	c := m.Certificate
 	fmt.Fprintln(w, c.Sentence())
-	fmt.Fprintf(w, "\nledger: delta %g split over %d families (the smallest bound is kept), m = %d certify rows, KL(Q||P) = %.4f\n",
-		c.Delta, len(c.Families), c.CertifyRows, m.Empirical.KL)
+	if note := m.SweepNote(); note != "" {
+		fmt.Fprintln(w, note)
+	}
+	share := fmt.Sprintf("delta %g", c.Delta)
+	if k := m.Provenance.SweepSettings; k > 0 && m.Provenance.SweepSelected {
+		share = fmt.Sprintf("delta %g / %d settings = %.4g", c.Delta, k, c.Delta/float64(k))
+	}
+	fmt.Fprintf(w, "\nledger: %s split over %d families (the smallest bound is kept), m = %d certify rows, KL(Q||P) = %.4f\n",
+		share, len(c.Families), c.CertifyRows, m.Empirical.KL)
 	fmt.Fprintf(w, "  %-20s %-11s %-10s %s\n", "family", "vote", "delta", "bound")
 	for _, f := range c.Families {
 		mark := ""
 		if f.Name == c.Family {
 			mark = "  <- certificate"
 		}
-		val := fmt.Sprintf("%.4f", f.Value)
+		val := trainer.FormatBound(f.Value)
 		if f.Reason != "" {
 			val = "none: " + f.Reason
 		}

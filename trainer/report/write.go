@@ -45,6 +45,11 @@ func Write(w io.Writer, in Input) error {
 	if in.TopVoters < 0 {
 		return fmt.Errorf("report: top voters must be positive, got %d", in.TopVoters)
 	}
+	if in.Sweep != nil {
+		if err := in.Sweep.Matches(in.Model); err != nil {
+			return fmt.Errorf("report: %w", err)
+		}
+	}
 	plots, err := Plots(in)
 	if err != nil {
 		return err
@@ -164,11 +169,11 @@ func buildView(in Input, plots []Plot) view {
 		fmt.Sprintf("The bound is on the error rate of this vote on new rows drawn from the same source as the training file. It holds with probability at least %s over the draw of the %d certify rows: a reader who repeats the whole procedure on fresh draws would find it wrong at most %s of the time.", v.Confidence, c.CertifyRows, trainer.Percent(c.Delta, true)),
 		fmt.Sprintf("The pool of voters and the prior were built on %d separate prior rows; the certify rows only entered the weights and the bounds. Delta was split evenly over the %d families of the ledger, and the smallest bound, %s (%s), is the certificate.", p.PriorRows, len(c.Families), v.BoundPercent, c.Family),
 	}
-	if p.SweepSettings > 0 {
-		v.Meaning = append(v.Meaning, fmt.Sprintf("This model's setting was selected from %d settings of a sweep, so its certificate was computed at delta / %d, although it states delta.", p.SweepSettings, p.SweepSettings))
+	if note := m.SweepNote(); note != "" {
+		v.Meaning = append(v.Meaning, note)
 	}
 	for _, f := range c.Families {
-		r := ledgerRow{Name: f.Name, Vote: f.Vote, Delta: fmtNum(f.Delta), Value: strconv.FormatFloat(f.Value, 'f', 4, 64), Reason: f.Reason, Chosen: f.Name == c.Family}
+		r := ledgerRow{Name: f.Name, Vote: f.Vote, Delta: fmtNum(f.Delta), Value: trainer.FormatBound(f.Value), Reason: f.Reason, Chosen: f.Name == c.Family}
 		if f.Reason != "" {
 			r.Value = "none"
 		}
