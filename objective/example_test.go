@@ -40,6 +40,19 @@ func ExampleTestSetBound() {
 	// Output: 0.00299
 }
 
+func ExampleTestSetLowerBound() {
+	// 5 errors on 100 fresh rows: the error rate is at least 1.99% with
+	// probability 95% (and at most 10.3% by TestSetBound, each one-sided).
+	lo, err := objective.TestSetLowerBound(5, 100, 0.05)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	up, _ := objective.TestSetBound(5, 100, 0.05)
+	fmt.Printf("[%.4f, %.4f]\n", lo.Value, up.Value)
+	// Output: [0.0199, 0.1023]
+}
+
 func ExampleGibbsPosterior() {
 	risks := []float64{0.1, 0.2, 0.4}
 	prior := []float64{1.0 / 3, 1.0 / 3, 1.0 / 3}
