@@ -199,7 +199,7 @@ func TestSweepDropsCBound(t *testing.T) {
 // the held-out rows. The selected certificate is a bound at delta / K, so
 // the fresh rows should agree with it (a drift verdict here would be the
 // delta case, or a bug).
-func TestSweepCheckHouseVotes(t *testing.T) {
+func TestSweepCheckReportHouseVotes(t *testing.T) {
 	if testing.Short() {
 		t.Skip("trains on a UCI set")
 	}
@@ -258,6 +258,13 @@ func TestSweepCheckHouseVotes(t *testing.T) {
 	// The sweep's test line counted the same fresh rows.
 	if sel.Test == nil || sel.Test.Rows != c.Rows {
 		t.Errorf("selected row's test line %+v", sel.Test)
+	}
+
+	// The report of the selected model, with the sweep and the check.
+	page := filepath.Join(dir, "report.html")
+	out, errs, code = runCLI(t, "report", "--model", filepath.Join(outDir, "selected.json"), "--sweep", outDir, "--check", freshPath, "--out", page)
+	if code != 0 || !strings.Contains(out, "4 plots") {
+		t.Errorf("report exit %d: %s\n%s", code, errs, out)
 	}
 }
 
