@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math/rand/v2"
+	"slices"
 
 	"surety/datasets"
 	"surety/objective"
@@ -53,6 +54,8 @@ func (s Setting) String() string {
 // Prepared is a table split, its pool built and its statistics counted:
 // everything of the pipeline that does not depend on the objective or the
 // prior, done once for any number of fits (a sweep fits many).
+//
+// A Prepared is not safe for concurrent use.
 type Prepared struct {
 	cfg                 Config
 	t                   *datasets.Table
@@ -60,6 +63,9 @@ type Prepared struct {
 	pool                *voters.Pool
 	priorRates          rates
 	certRates           rates
+	// holdFits keeps the prior-rows fits by objective and trade-off: the
+	// prior kind does not enter them, so a sweep over priors reuses them.
+	holdFits map[Setting][]float64
 }
 
 // Prepare splits t, builds the pool on the prior rows and counts the
@@ -162,9 +168,19 @@ func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
 	// The prior-rows fit: the objective on the prior rows' statistics with a
 	// uniform prior. It is the hold-out family's vote, and (mixed with
 	// uniform weight) the learned prior. Nothing here sees a certify row.
-	holdQ, _, err := fit(cfg, p.priorRates, uniform)
-	if err != nil {
-		return nil, fmt.Errorf("trainer: fitting on the prior rows: %w", err)
+	key := Setting{Objective: cfg.Objective, Tradeoff: cfg.Tradeoff}
+	holdQ, ok := p.holdFits[key]
+	if ok {
+		holdQ = slices.Clone(holdQ) // each model owns its weights
+	} else {
+		var err error
+		if holdQ, _, err = fit(cfg, p.priorRates, uniform); err != nil {
+			return nil, fmt.Errorf("trainer: fitting on the prior rows: %w", err)
+		}
+		if p.holdFits == nil {
+			p.holdFits = map[Setting][]float64{}
+		}
+		p.holdFits[key] = holdQ
 	}
 	prior := uniform
 	if cfg.Prior == LearnedPrior {
