@@ -9,6 +9,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -153,10 +154,20 @@ func modelFileName(s trainer.Setting) string {
 
 // writeSweep writes each model, the selected model, and the table as CSV
 // and JSON to dir, each file atomically. Model files are named in the rows
-// relative to dir.
+// relative to dir. When dir held an earlier sweep, its model files that
+// the new one does not write are removed at the end, so the folder never
+// mixes two grids; nothing else in dir is touched.
 func writeSweep(dir string, res *trainer.SweepResult) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
+	}
+	var stale []string
+	if old, err := trainer.ReadSweepFile(filepath.Join(dir, "sweep.json")); err == nil {
+		for _, r := range old.Rows {
+			if r.ModelFile != "" && r.ModelFile == filepath.Base(r.ModelFile) {
+				stale = append(stale, r.ModelFile)
+			}
+		}
 	}
 	for i, m := range res.Models {
 		name := modelFileName(res.Rows[i].Setting)
@@ -179,7 +190,17 @@ func writeSweep(dir string, res *trainer.SweepResult) error {
 	if err != nil {
 		return err
 	}
-	return trainer.WriteFileAtomic(filepath.Join(dir, "sweep.json"), append(b, '\n'))
+	if err := trainer.WriteFileAtomic(filepath.Join(dir, "sweep.json"), append(b, '\n')); err != nil {
+		return err
+	}
+	for _, name := range stale {
+		if !slices.ContainsFunc(res.Rows, func(r trainer.SweepRow) bool { return r.ModelFile == name }) {
+			if err := os.Remove(filepath.Join(dir, name)); err != nil && !os.IsNotExist(err) {
+				return err
+			}
+		}
+	}
+	return nil
 }
 
 var sweepCSVHeader = []string{"setting", "objective", "tradeoff", "prior", "certificate", "family",

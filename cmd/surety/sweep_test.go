@@ -119,6 +119,22 @@ func TestSweepJSONAndFolder(t *testing.T) {
 	if len(names) != 6+3 {
 		t.Errorf("the folder holds %d files, want 6 models, selected.json, sweep.csv, sweep.json: %v", len(names), names)
 	}
+
+	// A smaller grid into the same folder replaces the earlier sweep's
+	// model files; a file of the user's own stays.
+	own := filepath.Join(outDir, "notes.txt")
+	os.WriteFile(own, []byte("mine\n"), 0o644)
+	if _, errs, code := runCLI(t, "sweep", "--data", data, "--label", "leaked", "--linear-voters", "4", "--thresholds", "8",
+		"--objective", "tandem", "--prior", "uniform", "--out-dir", outDir); code != 0 {
+		t.Fatalf("second sweep exit %d: %s", code, errs)
+	}
+	names, _ = filepath.Glob(filepath.Join(outDir, "*"))
+	if len(names) != 1+3+1 {
+		t.Errorf("after the second sweep the folder holds %v, want 1 model, selected.json, sweep.csv, sweep.json and notes.txt", names)
+	}
+	if _, err := os.Stat(own); err != nil {
+		t.Errorf("the user's own file: %v", err)
+	}
 }
 
 func TestModelFileName(t *testing.T) {
