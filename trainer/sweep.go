@@ -4,7 +4,6 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
-	"math"
 	"os"
 	"slices"
 
@@ -115,14 +114,16 @@ func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult,
 	}
 	k := len(settings)
 	res := &SweepResult{Data: p.t.Fingerprint, Label: p.t.LabelName, Delta: p.cfg.Delta, K: k, SelectionDelta: p.cfg.Delta / float64(k)}
-	var fits []*fitted
-	best := math.Inf(1)
+	// Only the selected setting's fit is kept: its votes and margins are
+	// what re-certifying it needs, and the others' are m rows each.
+	var best *fitted
+	var bestCert Certificate
 	for i, s := range settings {
 		f, err := p.fit(ctx, s)
 		if err != nil {
 			return nil, fmt.Errorf("trainer: sweep: setting %s: %w", s, err)
 		}
-		sel, err := certify(res.SelectionDelta, f.emp, f.holdErrs, len(p.t.Classes))
+		cert, err := certify(res.SelectionDelta, f.emp, f.holdErrs, len(p.t.Classes))
 		if err != nil {
 			return nil, fmt.Errorf("trainer: sweep: setting %s: %w", s, err)
 		}
@@ -130,24 +131,20 @@ func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult,
 		row := SweepRow{
 			Setting: s, Name: s.String(),
 			Certificate: m.Certificate.RiskBound, Family: m.Certificate.Family,
-			SelectionCertificate: sel.RiskBound, SelectionFamily: sel.Family,
+			SelectionCertificate: cert.RiskBound, SelectionFamily: cert.Family,
 			VoteError: m.Empirical.VoteError, KL: m.Empirical.KL,
-			HeavyVoters: heavyVoters(m.Vote.Weights),
+			HeavyVoters: HeavyVoters(m.Vote.Weights),
 		}
 		m.Provenance.SweepSettings = k
 		res.Rows = append(res.Rows, row)
 		res.Models = append(res.Models, m)
-		fits = append(fits, f)
-		if sel.RiskBound < best {
-			best, res.Selected = sel.RiskBound, i
+		if best == nil || cert.RiskBound < bestCert.RiskBound {
+			best, bestCert, res.Selected = f, cert, i
 		}
 	}
-	f := fits[res.Selected]
-	sel := *f.model
-	cert, _ := certify(res.SelectionDelta, f.emp, f.holdErrs, len(p.t.Classes))
-	g := *f
-	g.model = &sel
-	g.ship(cert)
+	sel := *best.model
+	best.model = &sel
+	best.ship(bestCert)
 	sel.Certificate.Delta = p.cfg.Delta
 	sel.Provenance.SweepSelected = true
 	res.SelectedModel = &sel
@@ -166,7 +163,8 @@ func Sweep(ctx context.Context, t *datasets.Table, cfg Config, settings []Settin
 	return p.Sweep(ctx, settings)
 }
 
-func heavyVoters(w []float64) int {
+// HeavyVoters counts the weights above HeavyWeight.
+func HeavyVoters(w []float64) int {
 	n := 0
 	for _, x := range w {
 		if x > HeavyWeight {

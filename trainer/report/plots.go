@@ -260,12 +260,7 @@ func WeightsPlot(m *trainer.Model) (Plot, error) {
 		sorted[i] = plotter.XY{X: float64(i + 1), Y: x}
 		cum[i] = plotter.XY{X: float64(i + 1), Y: run}
 	}
-	heavy := 0
-	for _, x := range w {
-		if x > trainer.HeavyWeight {
-			heavy++
-		}
-	}
+	heavy := trainer.HeavyVoters(w)
 	svg, err := render(PlotWeights, plotWidth, plotHeight-40, func(dc draw.Canvas) error {
 		left := newPlot("Weights, heaviest first", "voter rank", "weight")
 		l, err := lineOf(sorted, inkBlue, nil, 1.2)
