@@ -66,21 +66,9 @@ func (d *dataFlags) options(base datasets.ReadOptions, warn func(string)) (datas
 
 // read reads the table named by --data.
 func (d *dataFlags) read(e *env, base datasets.ReadOptions) (*datasets.Table, error) {
-	if d.path == "" {
-		return nil, usagef("--data is required")
-	}
-	o, err := d.options(base, func(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) })
+	o, err := d.prepare(e, base)
 	if err != nil {
 		return nil, err
-	}
-	if d.path != "-" {
-		fi, err := os.Stat(d.path)
-		if err != nil {
-			return nil, err
-		}
-		if fi.IsDir() {
-			return nil, fmt.Errorf("%s is a folder, not a file", d.path)
-		}
 	}
 	stop := e.spinner("reading " + d.path)
 	defer stop()
@@ -88,6 +76,28 @@ func (d *dataFlags) read(e *env, base datasets.ReadOptions) (*datasets.Table, er
 		return datasets.Read(e.stdin, "-", o)
 	}
 	return datasets.ReadFile(d.path, o)
+}
+
+// prepare checks that --data names a file (or - for standard input) and
+// returns the read options of the flags over base, warnings to stderr.
+func (d *dataFlags) prepare(e *env, base datasets.ReadOptions) (datasets.ReadOptions, error) {
+	if d.path == "" {
+		return base, usagef("--data is required")
+	}
+	o, err := d.options(base, func(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) })
+	if err != nil {
+		return base, err
+	}
+	if d.path != "-" {
+		fi, err := os.Stat(d.path)
+		if err != nil {
+			return base, err
+		}
+		if fi.IsDir() {
+			return base, fmt.Errorf("%s is a folder, not a file", d.path)
+		}
+	}
+	return o, nil
 }
 
 // readLabelled reads fresh rows for model m (read from modelPath) with

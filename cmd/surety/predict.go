@@ -5,7 +5,6 @@ import (
 	"context"
 	"fmt"
 	"io"
-	"os"
 	"strconv"
 
 	"github.com/spf13/pflag"
@@ -59,21 +58,9 @@ func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
-	if o.data.path == "" {
-		return usagef("--data is required")
-	}
-	opts, err := o.data.options(m.ReadOptions(), func(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) })
+	opts, err := o.data.prepare(e, m.ReadOptions())
 	if err != nil {
 		return err
-	}
-	if o.data.path != "-" {
-		fi, err := os.Stat(o.data.path)
-		if err != nil {
-			return err
-		}
-		if fi.IsDir() {
-			return fmt.Errorf("%s is a folder, not a file", o.data.path)
-		}
 	}
 
 	collect := o.json && o.out == ""
