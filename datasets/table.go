@@ -1,6 +1,9 @@
 package datasets
 
-import "math"
+import (
+	"fmt"
+	"math"
+)
 
 // Kind says how a feature column is stored.
 type Kind uint8
@@ -21,6 +24,28 @@ func (k Kind) String() string {
 		return "categorical"
 	}
 	return "unknown"
+}
+
+// MarshalText writes "numeric" or "categorical"; any other value is an
+// error.
+func (k Kind) MarshalText() ([]byte, error) {
+	if k != Numeric && k != Categorical {
+		return nil, fmt.Errorf("datasets: column kind %d is neither numeric nor categorical", uint8(k))
+	}
+	return []byte(k.String()), nil
+}
+
+// UnmarshalText reads "numeric" or "categorical".
+func (k *Kind) UnmarshalText(b []byte) error {
+	switch string(b) {
+	case "numeric":
+		*k = Numeric
+	case "categorical":
+		*k = Categorical
+	default:
+		return fmt.Errorf("datasets: unknown column kind %q (want numeric or categorical)", b)
+	}
+	return nil
 }
 
 // MissingCode is the code of a missing cell in a categorical column.

@@ -56,7 +56,11 @@ func ExampleTestSetLowerBound() {
 func ExampleGibbsPosterior() {
 	risks := []float64{0.1, 0.2, 0.4}
 	prior := []float64{1.0 / 3, 1.0 / 3, 1.0 / 3}
-	q := objective.GibbsPosterior(risks, prior, 20, 1)
+	q, err := objective.GibbsPosterior(risks, prior, 20, 1)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
 	fmt.Printf("%.4f %.4f %.4f\n", q[0], q[1], q[2])
 	// Output: 0.8789 0.1189 0.0022
 }

@@ -9,14 +9,11 @@ import (
 // shape of gonum's optimize.Problem. q is meant to lie on the simplex; Func
 // and Grad also accept points just off it (as finite differences and
 // softmax steps produce) and give the plain partial derivatives there. Both
-// are safe for concurrent use.
+// are safe for concurrent use. The constructors below return an error
+// wrapping ErrRange, and no Problem, when their arguments are invalid.
 type Problem struct {
 	Func func(q []float64) float64
 	Grad func(grad, q []float64)
-	// Err is non-nil when the constructor's arguments were invalid; Func
-	// then returns NaN and Grad fills grad with NaN. Check it once before
-	// optimising.
-	Err error
 }
 
 // surface is a bound as a function of the three empirical figures r(Q),
@@ -26,13 +23,9 @@ type surface func(r, t, kl float64) (v, dr, dt, dkl float64)
 // problemOf composes a surface with r(Q) = q.risks (if risks is not nil),
 // t(Q) = q^T J q (if joint is not nil) and KL(Q||P): the chain rule gives
 // dr r_i + dt (2 J q)_i + dkl (ln(q_i/p_i) + 1).
-func problemOf(risks, joint, prior []float64, f surface, err error) Problem {
+func problemOf(risks, joint, prior []float64, f surface, err error) (Problem, error) {
 	if err != nil {
-		return Problem{
-			Func: func([]float64) float64 { return math.NaN() },
-			Grad: func(grad, _ []float64) { fillNaN(grad) },
-			Err:  err,
-		}
+		return Problem{}, err
 	}
 	eval := func(q []float64) (v, dr, dt, dkl float64) {
 		var r, t float64
@@ -69,7 +62,7 @@ func problemOf(risks, joint, prior []float64, f surface, err error) Problem {
 				grad[i] = g
 			}
 		},
-	}
+	}, nil
 }
 
 // checkStats validates the statistics an objective is built on.
@@ -107,7 +100,7 @@ func checkStats(risks, joint, prior []float64, m int) error {
 
 // LinearObjective is Catoni's trade-off C m r(Q) + KL(Q||P) (Catoni 2007),
 // minimised over the simplex by GibbsPosterior.
-func LinearObjective(risks, prior []float64, m int, c float64) Problem {
+func LinearObjective(risks, prior []float64, m int, c float64) (Problem, error) {
 	err := checkStats(risks, nil, prior, m)
 	if err == nil && (!(c > 0) || math.IsInf(c, 1)) {
 		err = fmt.Errorf("objective: trade-off C = %v, want a positive number: %w", c, ErrRange)
@@ -120,11 +113,11 @@ func LinearObjective(risks, prior []float64, m int, c float64) Problem {
 
 // GibbsPosterior returns the minimiser of LinearObjective on the simplex,
 // q_i proportional to p_i exp(-C m r_i) (Catoni 2007), computed in log
-// space so that large C m does not underflow every weight. It returns nil
-// when the arguments are invalid (as LinearObjective's Err would say).
-func GibbsPosterior(risks, prior []float64, m int, c float64) []float64 {
-	if LinearObjective(risks, prior, m, c).Err != nil {
-		return nil
+// space so that large C m does not underflow every weight. Invalid
+// arguments give LinearObjective's error.
+func GibbsPosterior(risks, prior []float64, m int, c float64) ([]float64, error) {
+	if _, err := LinearObjective(risks, prior, m, c); err != nil {
+		return nil, err
 	}
 	q := make([]float64, len(prior))
 	top := math.Inf(-1)
@@ -140,7 +133,7 @@ func GibbsPosterior(risks, prior []float64, m int, c float64) []float64 {
 	for i := range q {
 		q[i] /= s
 	}
-	return q
+	return q, nil
 }
 
 // pacConst returns ln(xi(m)/delta), the data-free part of every kl budget.
@@ -156,7 +149,7 @@ func pacConst(m int, delta float64) (float64, error) {
 // function of q: 2 kl^-1_up(r(Q), (KL(Q||P) + ln(xi(m)/delta))/m), its
 // gradient through the inverse by implicit differentiation. Func is NaN
 // where r(Q) leaves [0, 1].
-func KLObjective(risks, prior []float64, m int, delta float64) Problem {
+func KLObjective(risks, prior []float64, m int, delta float64) (Problem, error) {
 	err := checkStats(risks, nil, prior, m)
 	var c float64
 	if err == nil {
@@ -177,7 +170,7 @@ func KLObjective(risks, prior []float64, m int, delta float64) Problem {
 // TandemObjective is the tandem vote bound of TandemBound as a function of
 // q: 4 kl^-1_up(t(Q), (2 KL(Q||P) + ln(xi(m)/delta))/m). Func is NaN where
 // t(Q) leaves [0, 1].
-func TandemObjective(joint, prior []float64, m int, delta float64) Problem {
+func TandemObjective(joint, prior []float64, m int, delta float64) (Problem, error) {
 	err := checkStats(nil, joint, prior, m)
 	var c float64
 	if err == nil {
@@ -208,7 +201,7 @@ func TandemObjective(joint, prior []float64, m int, delta float64) Problem {
 // to the valid side. A d(Q) a rounding error below 0 is read as 0, whose
 // lower bound 0 is true. Func is NaN where r(Q) or d(Q) leaves [0, 1] or
 // D- reaches 1/2 (impossible for two-class statistics).
-func CBoundObjective(risks, joint, prior []float64, m int, delta float64) Problem {
+func CBoundObjective(risks, joint, prior []float64, m int, delta float64) (Problem, error) {
 	err := checkStats(risks, joint, prior, m)
 	var c float64
 	if err == nil {
@@ -250,7 +243,7 @@ func CBoundObjective(risks, joint, prior []float64, m int, delta float64) Proble
 // function of q, at the best mu for each q; by the envelope theorem its
 // gradient is that of the bound at fixed mu. Func is NaN where r(Q) or
 // t(Q) leaves [0, 1].
-func ChebyshevCantelliObjective(risks, joint, prior []float64, m int, delta float64) Problem {
+func ChebyshevCantelliObjective(risks, joint, prior []float64, m int, delta float64) (Problem, error) {
 	err := checkStats(risks, joint, prior, m)
 	if err == nil {
 		err = checkDelta(delta)

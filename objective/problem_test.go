@@ -99,15 +99,12 @@ func TestGradients(t *testing.T) {
 			name string
 			prob Problem
 		}{
-			{"LinearObjective", LinearObjective(risks, prior, m, 1.5)},
-			{"KLObjective", KLObjective(risks, prior, m, 0.05)},
-			{"TandemObjective", TandemObjective(joint, prior, m, 0.05)},
-			{"CBoundObjective", CBoundObjective(risks, joint, prior, m, 0.05)},
-			{"ChebyshevCantelliObjective", ChebyshevCantelliObjective(risks, joint, prior, m, 0.05)},
+			{"LinearObjective", must(t)(LinearObjective(risks, prior, m, 1.5))},
+			{"KLObjective", must(t)(KLObjective(risks, prior, m, 0.05))},
+			{"TandemObjective", must(t)(TandemObjective(joint, prior, m, 0.05))},
+			{"CBoundObjective", must(t)(CBoundObjective(risks, joint, prior, m, 0.05))},
+			{"ChebyshevCantelliObjective", must(t)(ChebyshevCantelliObjective(risks, joint, prior, m, 0.05))},
 		} {
-			if p.prob.Err != nil {
-				t.Fatalf("%s: %v", p.name, p.prob.Err)
-			}
 			probs = append(probs, struct {
 				name string
 				f    func([]float64) float64
@@ -127,10 +124,7 @@ func TestCBoundObjectiveSurrogate(t *testing.T) {
 	rng := rand.New(rand.NewPCG(7, 8))
 	const n, m = 5, 300
 	risks, joint, prior, q := simStats(rng, n, m, 0.5)
-	prob := CBoundObjective(risks, joint, prior, m, 0.05)
-	if prob.Err != nil {
-		t.Fatal(prob.Err)
-	}
+	prob := must(t)(CBoundObjective(risks, joint, prior, m, 0.05))
 	if _, err := CBound(GibbsRisk(q, risks), TandemRisk(q, joint), Divergence(q, prior), m, 0.05); err == nil {
 		t.Fatalf("want statistics past the C-bound's edge; r(Q) = %v", GibbsRisk(q, risks))
 	}
@@ -167,10 +161,7 @@ func cboundEdge(t *testing.T, r, tr float64, m int) float64 {
 	t.Helper()
 	p0 := 0.5 * math.Exp(-0.5) // KL((1/2, 1/2) || (p0, p0)) = 0.5
 	x := 2*tr - r              // t(Q) = (2r + 2x)/4 at equal weights
-	prob := CBoundObjective([]float64{r, r}, []float64{r, x, x, r}, []float64{p0, p0}, m, 0.05)
-	if prob.Err != nil {
-		t.Fatal(prob.Err)
-	}
+	prob := must(t)(CBoundObjective([]float64{r, r}, []float64{r, x, x, r}, []float64{p0, p0}, m, 0.05))
 	return prob.Func([]float64{0.5, 0.5})
 }
 
@@ -186,10 +177,10 @@ func TestObjectivesMatchBounds(t *testing.T) {
 		prob  Problem
 		bound func() (Bound, error)
 	}{
-		{"first order", KLObjective(risks, prior, m, 0.05), func() (Bound, error) { return FirstOrderBound(r, kl, m, 0.05) }},
-		{"tandem", TandemObjective(joint, prior, m, 0.05), func() (Bound, error) { return TandemBound(tr, kl, m, 0.05) }},
-		{"c-bound", CBoundObjective(risks, joint, prior, m, 0.05), func() (Bound, error) { return CBound(r, tr, kl, m, 0.05) }},
-		{"chebyshev-cantelli", ChebyshevCantelliObjective(risks, joint, prior, m, 0.05), func() (Bound, error) { return ChebyshevCantelliBound(r, tr, kl, m, 0.05) }},
+		{"first order", must(t)(KLObjective(risks, prior, m, 0.05)), func() (Bound, error) { return FirstOrderBound(r, kl, m, 0.05) }},
+		{"tandem", must(t)(TandemObjective(joint, prior, m, 0.05)), func() (Bound, error) { return TandemBound(tr, kl, m, 0.05) }},
+		{"c-bound", must(t)(CBoundObjective(risks, joint, prior, m, 0.05)), func() (Bound, error) { return CBound(r, tr, kl, m, 0.05) }},
+		{"chebyshev-cantelli", must(t)(ChebyshevCantelliObjective(risks, joint, prior, m, 0.05)), func() (Bound, error) { return ChebyshevCantelliBound(r, tr, kl, m, 0.05) }},
 	} {
 		b, err := c.bound()
 		if err != nil {
@@ -213,8 +204,11 @@ func TestGibbsPosteriorMinimises(t *testing.T) {
 	}{{"small", 5, 100, 0.5}, {"large C m", 40, 20000, 3}} {
 		t.Run(c.name, func(t *testing.T) {
 			risks, _, prior, _ := simStats(rng, c.n, 50, 0.2)
-			q := GibbsPosterior(risks, prior, c.m, c.c)
-			prob := LinearObjective(risks, prior, c.m, c.c)
+			q, err := GibbsPosterior(risks, prior, c.m, c.c)
+			if err != nil {
+				t.Fatal(err)
+			}
+			prob := must(t)(LinearObjective(risks, prior, c.m, c.c))
 			g := make([]float64, c.n)
 			prob.Grad(g, q)
 			// Only where q_i did not underflow: at q_i = 0 the entry is
@@ -245,8 +239,8 @@ func TestGibbsPosteriorMinimises(t *testing.T) {
 			}
 		})
 	}
-	if GibbsPosterior([]float64{0.1}, []float64{0.5, 0.5}, 10, 1) != nil {
-		t.Errorf("mismatched lengths: want nil")
+	if q, err := GibbsPosterior([]float64{0.1}, []float64{0.5, 0.5}, 10, 1); !errors.Is(err, ErrRange) || q != nil {
+		t.Errorf("mismatched lengths: got %v, %v, want ErrRange", q, err)
 	}
 }
 
@@ -255,27 +249,23 @@ func TestProblemErrors(t *testing.T) {
 	joint := []float64{0.1, 0.05, 0.05, 0.2}
 	for _, c := range []struct {
 		name string
-		prob Problem
+		make func() (Problem, error)
 	}{
-		{"m 0", KLObjective(risks, prior, 0, 0.05)},
-		{"delta 1", TandemObjective(joint, prior, 100, 1)},
-		{"prior weight 0", CBoundObjective(risks, joint, []float64{1, 0}, 100, 0.05)},
-		{"risk above 1", LinearObjective([]float64{1.2, 0.1}, prior, 100, 1)},
-		{"C 0", LinearObjective(risks, prior, 100, 0)},
-		{"joint too short", ChebyshevCantelliObjective(risks, joint[:3], prior, 100, 0.05)},
-		{"risks too short", KLObjective(risks[:1], prior, 100, 0.05)},
+		{"m 0", func() (Problem, error) { return KLObjective(risks, prior, 0, 0.05) }},
+		{"delta 1", func() (Problem, error) { return TandemObjective(joint, prior, 100, 1) }},
+		{"prior weight 0", func() (Problem, error) { return CBoundObjective(risks, joint, []float64{1, 0}, 100, 0.05) }},
+		{"risk above 1", func() (Problem, error) { return LinearObjective([]float64{1.2, 0.1}, prior, 100, 1) }},
+		{"C 0", func() (Problem, error) { return LinearObjective(risks, prior, 100, 0) }},
+		{"joint too short", func() (Problem, error) { return ChebyshevCantelliObjective(risks, joint[:3], prior, 100, 0.05) }},
+		{"risks too short", func() (Problem, error) { return KLObjective(risks[:1], prior, 100, 0.05) }},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			if !errors.Is(c.prob.Err, ErrRange) {
-				t.Fatalf("Err = %v, want ErrRange", c.prob.Err)
+			p, err := c.make()
+			if !errors.Is(err, ErrRange) {
+				t.Fatalf("err = %v, want ErrRange", err)
 			}
-			if v := c.prob.Func([]float64{0.5, 0.5}); !math.IsNaN(v) {
-				t.Errorf("Func = %v, want NaN", v)
-			}
-			g := []float64{0, 0}
-			c.prob.Grad(g, []float64{0.5, 0.5})
-			if !math.IsNaN(g[0]) {
-				t.Errorf("Grad = %v, want NaN", g)
+			if p.Func != nil || p.Grad != nil {
+				t.Errorf("got a Problem with an error")
 			}
 		})
 	}
@@ -297,5 +287,17 @@ func TestTandemRiskNaive(t *testing.T) {
 	}
 	if !math.IsNaN(TandemRisk(q, joint[:10])) {
 		t.Fatalf("short matrix: want NaN")
+	}
+}
+
+// must returns a function that fails t on a constructor's error and
+// returns its Problem otherwise.
+func must(t *testing.T) func(Problem, error) Problem {
+	return func(p Problem, err error) Problem {
+		t.Helper()
+		if err != nil {
+			t.Fatal(err)
+		}
+		return p
 	}
 }

@@ -73,7 +73,7 @@ type ClassCheck struct {
 // used to train m: Check cannot tell.
 func Check(m *Model, t *datasets.Table, cfg CheckConfig) (*CheckResult, error) {
 	if cfg.Delta == 0 {
-		cfg.Delta = 0.05
+		cfg.Delta = DefaultDelta
 	}
 	if !(cfg.Delta > 0 && cfg.Delta < 1) {
 		return nil, fmt.Errorf("trainer: check: delta must be in (0, 1), got %g", cfg.Delta)

@@ -6,26 +6,6 @@ import (
 	"surety/voters"
 )
 
-// Objective names the bound the posterior is fitted to.
-type Objective string
-
-// The objectives. Each is a function of the posterior weights through the
-// certify rows' statistics (FIELD-GUIDE.md).
-const (
-	// Linear is Catoni's trade-off C m r(Q) + KL(Q||P) for a fixed C
-	// (Config.Tradeoff); its minimiser is the Gibbs posterior.
-	Linear Objective = "linear"
-	// CBound is the certified C-bound; binary problems only.
-	CBound Objective = "cbound"
-	// Tandem is the tandem bound 4 R(Q^2), any number of classes.
-	Tandem Objective = "tandem"
-	// KL is the first-order bound 2 R(Q) with the kl bound on R(Q).
-	KL Objective = "kl"
-)
-
-// Objectives lists the objectives in a fixed order.
-var Objectives = []Objective{Linear, CBound, Tandem, KL}
-
 // PriorKind says how the prior over the pool is chosen.
 type PriorKind string
 
@@ -35,6 +15,21 @@ const (
 	LearnedPrior PriorKind = "learned"
 	// UniformPrior puts the same weight on every voter.
 	UniformPrior PriorKind = "uniform"
+)
+
+// The defaults of Config, in one place: the zero value of each field means
+// its default, and the command line's flags start from DefaultConfig.
+const (
+	DefaultObjective     = Tandem
+	DefaultTradeoff      = 1.0
+	DefaultDelta         = 0.05
+	DefaultPriorFraction = 0.5
+	DefaultPrior         = LearnedPrior
+	DefaultPriorMix      = 0.1
+	DefaultMaxIterations = 1000
+	// DefaultSeed is the command line's seed; a Config's zero Seed is seed
+	// 0, an ordinary seed.
+	DefaultSeed uint64 = 1
 )
 
 // Config holds the settings of Train. The zero value means the defaults
@@ -57,7 +52,7 @@ type Config struct {
 	// PriorMix is the uniform share mixed into a learned prior, in (0, 1].
 	// Default 0.1.
 	PriorMix float64
-	// Seed drives the split and the pool's random choices.
+	// Seed drives the split and the pool's random choices (0 is seed 0).
 	Seed uint64
 	// Pool sets the voter pool; its zero value means the voters package's
 	// defaults.
@@ -68,40 +63,45 @@ type Config struct {
 	Progress func(stage string)
 }
 
+// DefaultConfig returns the defaults of every field, the pool's resolved
+// too, and Seed DefaultSeed: the settings the command line starts from.
+func DefaultConfig() Config {
+	c := Config{Seed: DefaultSeed}.withDefaults()
+	c.Pool = voters.DefaultPoolConfig()
+	return c
+}
+
 func (c Config) withDefaults() Config {
 	if c.Objective == "" {
-		c.Objective = Tandem
+		c.Objective = DefaultObjective
 	}
 	if c.Tradeoff == 0 {
-		c.Tradeoff = 1
+		c.Tradeoff = DefaultTradeoff
 	}
 	if c.Delta == 0 {
-		c.Delta = 0.05
+		c.Delta = DefaultDelta
 	}
 	if c.PriorFraction == 0 {
-		c.PriorFraction = 0.5
+		c.PriorFraction = DefaultPriorFraction
 	}
 	if c.Prior == "" {
-		c.Prior = LearnedPrior
+		c.Prior = DefaultPrior
 	}
 	if c.PriorMix == 0 {
-		c.PriorMix = 0.1
+		c.PriorMix = DefaultPriorMix
 	}
 	if c.MaxIterations == 0 {
-		c.MaxIterations = 1000
+		c.MaxIterations = DefaultMaxIterations
 	}
 	return c
 }
 
+// Priors lists the prior kinds in a fixed order.
+var Priors = []PriorKind{LearnedPrior, UniformPrior}
+
 func (c Config) validate(classes int) error {
-	switch c.Objective {
-	case Linear, Tandem, KL:
-	case CBound:
-		if classes != 2 {
-			return fmt.Errorf("trainer: the C-bound objective needs exactly 2 classes, the label has %d (use tandem or kl)", classes)
-		}
-	default:
-		return fmt.Errorf("trainer: unknown objective %q (want linear, cbound, tandem or kl)", c.Objective)
+	if err := c.Objective.check(classes); err != nil {
+		return err
 	}
 	switch c.Prior {
 	case LearnedPrior, UniformPrior:

@@ -4,24 +4,25 @@ import (
 	"bytes"
 	"cmp"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"slices"
 
 	"surety/datasets"
+	"surety/trainer/atomicfile"
 	"surety/voters"
 )
 
 // Version is the tool version recorded in every model file.
-const Version = "0.1.0"
+const Version = "0.2.0"
 
 // ModelFormat is the version of the model file layout this package writes
-// and the only one it reads.
-const ModelFormat = 1
+// and the only one it reads. Format 2 holds the vote as one object and the
+// pool's resolved settings; format 1 files (surety 0.1.0) are refused with
+// a message that says to retrain.
+const ModelFormat = 2
 
 // Model is a trained vote with its certificate and provenance: what a model
 // file holds.
@@ -33,19 +34,13 @@ type Model struct {
 	// Classes are the class names, sorted.
 	Classes []string
 	// Columns is the schema the vote expects of a file to predict on.
-	Columns []ColumnSpec
+	Columns []voters.ColumnSpec
 	// Vote is the shipped vote: the voters of the whole pool and their
 	// weights (a point on the simplex).
 	Vote        *voters.Vote
 	Certificate Certificate
 	Empirical   Empirical
 	Provenance  Provenance
-}
-
-// ColumnSpec is one column the vote reads.
-type ColumnSpec struct {
-	Name string `json:"name"`
-	Kind string `json:"kind"`
 }
 
 // Provenance says where the model came from, so a reader can redo the work.
@@ -62,8 +57,9 @@ type Provenance struct {
 	Prior         PriorKind            `json:"prior"`
 	PriorMix      float64              `json:"prior_mix"`
 	PriorFraction float64              `json:"prior_fraction"`
-	Pool          voters.PoolConfig    `json:"pool"`
-	Optimizer     OptimizerResult      `json:"optimizer"`
+	// Pool is the pool's configuration with every default resolved.
+	Pool      voters.PoolConfig `json:"pool"`
+	Optimizer OptimizerResult   `json:"optimizer"`
 	// SweepSettings, when not zero, is the number K of settings of the sweep
 	// this model came from. SweepSelected says it is the selection: its
 	// certificate is then computed at delta / K (each family at delta /
@@ -89,124 +85,51 @@ func (m *Model) SweepNote() string {
 	}
 }
 
-// modelFile is the JSON layout of a model file.
+// modelFile is the JSON layout of a model file. The vote (its classes,
+// weights and voters) is written by package voters.
 type modelFile struct {
-	Format      int             `json:"surety_model_format"`
-	ToolVersion string          `json:"tool_version"`
-	Label       string          `json:"label"`
-	Classes     []string        `json:"classes"`
-	Columns     []ColumnSpec    `json:"columns"`
-	Certificate Certificate     `json:"certificate"`
-	Empirical   Empirical       `json:"empirical"`
-	Provenance  Provenance      `json:"provenance"`
-	Weights     []float64       `json:"weights"`
-	Voters      json.RawMessage `json:"voters"`
+	Format      int                 `json:"surety_model_format"`
+	ToolVersion string              `json:"tool_version"`
+	Label       string              `json:"label"`
+	Columns     []voters.ColumnSpec `json:"columns"`
+	Certificate Certificate         `json:"certificate"`
+	Empirical   Empirical           `json:"empirical"`
+	Provenance  Provenance          `json:"provenance"`
+	Vote        *voters.Vote        `json:"vote"`
 }
 
 // MarshalJSON writes the model file layout.
 func (m *Model) MarshalJSON() ([]byte, error) {
-	vs, err := voters.MarshalVoters(m.Vote.Voters)
-	if err != nil {
-		return nil, err
-	}
 	return json.Marshal(modelFile{
 		Format:      m.Format,
 		ToolVersion: m.ToolVersion,
 		Label:       m.Label,
-		Classes:     m.Classes,
 		Columns:     m.Columns,
 		Certificate: m.Certificate,
 		Empirical:   m.Empirical,
 		Provenance:  m.Provenance,
-		Weights:     m.Vote.Weights,
-		Voters:      vs,
+		Vote:        m.Vote,
 	})
 }
 
-// WriteModel writes m to path atomically: it writes a temporary file in the
-// same folder, syncs it and renames it over path, so an interrupted run
-// leaves any earlier file at path intact.
-func WriteModel(path string, m *Model) error {
+// EncodeModel writes m's model file layout to w, indented, with a final
+// newline.
+func EncodeModel(w io.Writer, m *Model) error {
 	b, err := json.MarshalIndent(m, "", "  ")
 	if err != nil {
 		return fmt.Errorf("trainer: encoding model: %w", err)
 	}
-	b = append(b, '\n')
-	return WriteFileAtomic(path, b)
+	_, err = w.Write(append(b, '\n'))
+	return err
 }
 
-// WriteFileAtomic writes data to path through a temporary file in the same
-// folder and a rename.
-func WriteFileAtomic(path string, data []byte) error {
-	f, err := CreateAtomic(path)
-	if err != nil {
-		return err
+// WriteModel writes m to path atomically (package atomicfile), so an
+// interrupted run leaves any earlier file at path intact.
+func WriteModel(path string, m *Model) error {
+	if err := atomicfile.WriteWith(path, func(f *os.File) error { return EncodeModel(f, m) }); err != nil {
+		return fmt.Errorf("trainer: %w", err)
 	}
-	defer f.Abort()
-	if _, err := f.Write(data); err != nil {
-		return fmt.Errorf("trainer: writing %s: %w", path, err)
-	}
-	return f.Commit()
-}
-
-// AtomicFile is an output file written as a stream and put in place at the
-// end: the bytes go to a temporary file in the same folder, which Commit
-// syncs and renames over the path, so readers never see a partial file and
-// a failed run leaves any earlier file untouched.
-type AtomicFile struct {
-	*os.File
-	path string
-	done bool
-}
-
-// CreateAtomic starts an AtomicFile for path. Call Commit when every byte
-// is written, and defer Abort, which removes the temporary file unless
-// Commit put it in place.
-func CreateAtomic(path string) (*AtomicFile, error) {
-	if fi, err := os.Stat(path); err == nil && fi.IsDir() {
-		return nil, fmt.Errorf("trainer: writing %s: it is a folder", path)
-	}
-	dir := filepath.Dir(path)
-	f, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		if fi, serr := os.Stat(dir); serr != nil || !fi.IsDir() {
-			return nil, fmt.Errorf("trainer: writing %s: the folder %s does not exist", path, dir)
-		}
-		var pe *os.PathError
-		if errors.As(err, &pe) {
-			err = pe.Err
-		}
-		return nil, fmt.Errorf("trainer: writing %s: cannot create a file in %s: %w", path, dir, err)
-	}
-	return &AtomicFile{File: f, path: path}, nil
-}
-
-// Commit syncs the temporary file and renames it over the path.
-func (a *AtomicFile) Commit() error {
-	err := a.Sync()
-	if err == nil {
-		err = a.Chmod(0o644)
-	}
-	if cerr := a.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(a.Name(), a.path)
-	}
-	if err != nil {
-		os.Remove(a.Name())
-		return fmt.Errorf("trainer: writing %s: %w", a.path, err)
-	}
-	a.done = true
 	return nil
-}
-
-// Abort removes the temporary file unless Commit put it in place.
-func (a *AtomicFile) Abort() {
-	if !a.done {
-		a.Close()
-		os.Remove(a.Name())
-	}
 }
 
 // ReadModelFile reads and validates a model file.
@@ -229,27 +152,41 @@ const simplexTolerance = 1e-9
 // DecodeModel reads and validates a model from r: the format version, the
 // weights on the simplex, and every voter reading a column of the schema.
 func DecodeModel(r io.Reader) (*Model, error) {
-	dec := json.NewDecoder(r)
+	b, err := io.ReadAll(r)
+	if err != nil {
+		return nil, err
+	}
+	var head struct {
+		Format      int    `json:"surety_model_format"`
+		ToolVersion string `json:"tool_version"`
+	}
+	if err := json.Unmarshal(b, &head); err != nil {
+		return nil, fmt.Errorf("not a model file: %w", err)
+	}
+	if head.Format != ModelFormat {
+		if head.Format == 1 {
+			return nil, fmt.Errorf("model format 1 (written by surety %s) is not read by surety %s, which reads format %d: train the model again with this version (the certificate depends on the data, so an old file is not converted)", head.ToolVersion, Version, ModelFormat)
+		}
+		return nil, fmt.Errorf("model format %d is not supported (this is version %s, which reads format %d)", head.Format, Version, ModelFormat)
+	}
+	dec := json.NewDecoder(bytes.NewReader(b))
 	dec.DisallowUnknownFields()
 	var f modelFile
 	if err := dec.Decode(&f); err != nil {
 		return nil, fmt.Errorf("not a model file: %w", err)
 	}
-	if f.Format != ModelFormat {
-		return nil, fmt.Errorf("model format %d is not supported (this is version %s, which reads format %d)", f.Format, Version, ModelFormat)
+	v := f.Vote
+	if v == nil {
+		return nil, fmt.Errorf("the model file holds no vote")
 	}
-	if len(f.Classes) < 2 {
-		return nil, fmt.Errorf("the model has %d classes, want at least 2", len(f.Classes))
+	if len(v.Classes) < 2 {
+		return nil, fmt.Errorf("the model has %d classes, want at least 2", len(v.Classes))
 	}
-	vs, err := voters.UnmarshalVoters(f.Voters)
-	if err != nil {
-		return nil, err
-	}
-	if len(vs) == 0 || len(vs) != len(f.Weights) {
-		return nil, fmt.Errorf("the model has %d voters and %d weights", len(vs), len(f.Weights))
+	if len(v.Voters) == 0 {
+		return nil, fmt.Errorf("the model has no voters")
 	}
 	var sum float64
-	for i, w := range f.Weights {
+	for i, w := range v.Weights {
 		if !(w >= 0) || math.IsInf(w, 0) {
 			return nil, fmt.Errorf("weight %d is %v: the weights are not on the simplex", i, w)
 		}
@@ -270,13 +207,10 @@ func DecodeModel(r io.Reader) (*Model, error) {
 	}
 	known := map[string]bool{}
 	for _, c := range f.Columns {
-		if c.Kind != datasets.Numeric.String() && c.Kind != datasets.Categorical.String() {
-			return nil, fmt.Errorf("column %q has unknown kind %q", c.Name, c.Kind)
-		}
 		known[c.Name] = true
 	}
-	for i, v := range vs {
-		for _, c := range v.Columns() {
+	for i, vr := range v.Voters {
+		for _, c := range vr.Columns() {
 			if !known[c] {
 				return nil, fmt.Errorf("voter %d reads column %q, which is not in the model's schema", i, c)
 			}
@@ -286,22 +220,13 @@ func DecodeModel(r io.Reader) (*Model, error) {
 		Format:      f.Format,
 		ToolVersion: f.ToolVersion,
 		Label:       f.Label,
-		Classes:     f.Classes,
+		Classes:     v.Classes,
 		Columns:     f.Columns,
-		Vote:        &voters.Vote{Voters: vs, Weights: f.Weights, Classes: f.Classes},
+		Vote:        v,
 		Certificate: f.Certificate,
 		Empirical:   f.Empirical,
 		Provenance:  f.Provenance,
 	}, nil
-}
-
-// schemaOf lists the columns the pool reads, in table order.
-func schemaOf(p *voters.Pool) []ColumnSpec {
-	cols := make([]ColumnSpec, len(p.Schema))
-	for i, c := range p.Schema {
-		cols[i] = ColumnSpec{Name: c.Name, Kind: c.Kind.String()}
-	}
-	return cols
 }
 
 // ReadOptions returns the options that read a file for this model: the
@@ -310,11 +235,7 @@ func schemaOf(p *voters.Pool) []ColumnSpec {
 func (m *Model) ReadOptions() datasets.ReadOptions {
 	kinds := map[string]datasets.Kind{}
 	for _, c := range m.Columns {
-		if c.Kind == datasets.Categorical.String() {
-			kinds[c.Name] = datasets.Categorical
-		} else {
-			kinds[c.Name] = datasets.Numeric
-		}
+		kinds[c.Name] = c.Kind
 	}
 	return datasets.ReadOptions{NoLabel: true, Kinds: kinds}
 }

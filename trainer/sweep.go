@@ -2,9 +2,7 @@ package trainer
 
 import (
 	"context"
-	"encoding/json"
 	"fmt"
-	"os"
 	"slices"
 
 	"surety/datasets"
@@ -54,9 +52,10 @@ type SweepRow struct {
 	KL        float64 `json:"kl"`
 	// HeavyVoters counts the voters of the shipped vote with weight > 1%.
 	HeavyVoters int `json:"heavy_voters"`
-	// Test is filled by the caller that checks each model on a test file.
+	// Test is the setting's check on a test file, filled by CheckOn.
 	Test *TestLine `json:"test,omitempty"`
-	// ModelFile is filled by the caller that writes each model.
+	// ModelFile is the model's file name in the sweep folder, filled by
+	// WriteSweepDir.
 	ModelFile string `json:"model_file,omitempty"`
 }
 
@@ -184,20 +183,3 @@ func (r *SweepResult) Matches(m *Model) error {
 }
 
 func short(h string) string { return h[:min(len(h), 12)] }
-
-// ReadSweepFile reads the JSON of a SweepResult (its rows and selection;
-// the models are separate files).
-func ReadSweepFile(path string) (*SweepResult, error) {
-	b, err := os.ReadFile(path)
-	if err != nil {
-		return nil, fmt.Errorf("trainer: %w", err)
-	}
-	var r SweepResult
-	if err := json.Unmarshal(b, &r); err != nil {
-		return nil, fmt.Errorf("trainer: %s: not a sweep file: %w", path, err)
-	}
-	if r.K != len(r.Rows) || r.K == 0 || r.Selected < 0 || r.Selected >= r.K {
-		return nil, fmt.Errorf("trainer: %s: not a sweep file: %d rows for %d settings, selected %d", path, len(r.Rows), r.K, r.Selected)
-	}
-	return &r, nil
-}

@@ -218,7 +218,7 @@ func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
 		ToolVersion: Version,
 		Label:       t.LabelName,
 		Classes:     append([]string(nil), t.Classes...),
-		Columns:     schemaOf(pool),
+		Columns:     slices.Clone(pool.Schema),
 		Vote:        &voters.Vote{Voters: pool.Voters, Classes: pool.Classes},
 		Provenance: Provenance{
 			Data:          t.Fingerprint,
@@ -233,7 +233,7 @@ func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
 			Prior:         cfg.Prior,
 			PriorMix:      cfg.PriorMix,
 			PriorFraction: cfg.PriorFraction,
-			Pool:          cfg.Pool,
+			Pool:          pool.Config,
 			Optimizer:     opt,
 		},
 	}
@@ -286,32 +286,26 @@ func ratesOf(s *voters.Stats) rates {
 	return rates{m: s.M, risks: s.Risks(), joint: s.JointRisks()}
 }
 
-// problemFor returns the configured objective on r with the given prior.
-func problemFor(cfg Config, r rates, prior []float64) objective.Problem {
-	switch cfg.Objective {
-	case Linear:
-		return objective.LinearObjective(r.risks, prior, r.m, cfg.Tradeoff)
-	case KL:
-		return objective.KLObjective(r.risks, prior, r.m, cfg.Delta)
-	case CBound:
-		return objective.CBoundObjective(r.risks, r.joint, prior, r.m, cfg.Delta)
-	default:
-		return objective.TandemObjective(r.joint, prior, r.m, cfg.Delta)
-	}
-}
-
 // fit minimises the configured objective on r with the given prior.
 func fit(cfg Config, r rates, prior []float64) ([]float64, OptimizerResult, error) {
+	spec, ok := specOf(cfg.Objective)
+	if !ok {
+		return nil, OptimizerResult{}, cfg.Objective.check(0)
+	}
+	prob, err := spec.problem(r, prior, cfg)
+	if err != nil {
+		return nil, OptimizerResult{}, err
+	}
 	starts := []startPoint{{"prior", prior}, {"uniform", uniformWeights(len(prior))}}
 	// Gibbs posteriors over a grid of temperatures around the configured
 	// trade-off: cheap, closed-form, and often close to a bound's optimum.
 	for _, f := range []float64{1, 0.1, 0.3, 3, 10} {
 		c := cfg.Tradeoff * f
-		starts = append(starts, startPoint{fmt.Sprintf("gibbs(C=%g)", c), objective.GibbsPosterior(r.risks, prior, r.m, c)})
-	}
-	prob := problemFor(cfg, r, prior)
-	if prob.Err != nil {
-		return nil, OptimizerResult{}, prob.Err
+		q, err := objective.GibbsPosterior(r.risks, prior, r.m, c)
+		if err != nil {
+			return nil, OptimizerResult{}, err
+		}
+		starts = append(starts, startPoint{fmt.Sprintf("gibbs(C=%g)", c), q})
 	}
 	return minimizeSimplex(prob, starts, cfg.MaxIterations)
 }

@@ -9,7 +9,6 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
-	"strings"
 	"testing"
 
 	"surety/datasets"
@@ -63,12 +62,18 @@ func TestOptimiserFindsGibbsPosterior(t *testing.T) {
 			for i := range uniform {
 				uniform[i] = 1 / float64(tc.n)
 			}
-			prob := objective.LinearObjective(risks, prior, tc.m, tc.c)
+			prob, err := objective.LinearObjective(risks, prior, tc.m, tc.c)
+			if err != nil {
+				t.Fatal(err)
+			}
 			q, res, err := minimizeSimplex(prob, []startPoint{{"uniform", uniform}}, 5000)
 			if err != nil {
 				t.Fatal(err)
 			}
-			want := objective.GibbsPosterior(risks, prior, tc.m, tc.c)
+			want, err := objective.GibbsPosterior(risks, prior, tc.m, tc.c)
+			if err != nil {
+				t.Fatal(err)
+			}
 			var tv float64
 			for i := range q {
 				tv += math.Abs(q[i]-want[i]) / 2
@@ -85,7 +90,7 @@ func TestOptimiserFindsGibbsPosterior(t *testing.T) {
 // started at the best of them).
 func TestFitNeverWorseThanStarts(t *testing.T) {
 	tab := demoTable(t, 2000, 5)
-	for _, obj := range []Objective{KL, Tandem, CBound, Linear} {
+	for _, obj := range Objectives {
 		t.Run(string(obj), func(t *testing.T) {
 			cfg := Config{Objective: obj, Seed: 1}.withDefaults()
 			rows := make([]int, tab.Rows)
@@ -109,12 +114,20 @@ func TestFitNeverWorseThanStarts(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			prob := problemFor(cfg, ratesOf(st), uniform)
+			spec, _ := specOf(obj)
+			prob, err := spec.problem(ratesOf(st), uniform, cfg)
+			if err != nil {
+				t.Fatal(err)
+			}
 			final := prob.Func(q)
 			if math.Abs(final-res.Value) > 1e-12*math.Max(1, math.Abs(final)) {
 				t.Errorf("reported value %v, recomputed %v", res.Value, final)
 			}
-			for _, start := range [][]float64{uniform, objective.GibbsPosterior(st.Risks(), uniform, st.M, cfg.Tradeoff)} {
+			gibbs, err := objective.GibbsPosterior(st.Risks(), uniform, st.M, cfg.Tradeoff)
+			if err != nil {
+				t.Fatal(err)
+			}
+			for _, start := range [][]float64{uniform, gibbs} {
 				if v := prob.Func(start); final > v {
 					t.Errorf("final value %v exceeds a start's %v", final, v)
 				}
@@ -178,12 +191,17 @@ func TestDecodeModelRejects(t *testing.T) {
 		file []byte
 	}{
 		{"wrong format", edit(func(v map[string]any) { v["surety_model_format"] = 99 })},
+		{"format 1", edit(func(v map[string]any) { v["surety_model_format"] = 1 })},
+		{"no vote", edit(func(v map[string]any) { delete(v, "vote") })},
+		{"unknown column kind", edit(func(v map[string]any) {
+			v["columns"].([]any)[0].(map[string]any)["kind"] = "text"
+		})},
 		{"weights off the simplex", edit(func(v map[string]any) {
-			w := v["weights"].([]any)
+			w := v["vote"].(map[string]any)["weights"].([]any)
 			w[0] = w[0].(float64) + 0.5
 		})},
 		{"negative weight", edit(func(v map[string]any) {
-			w := v["weights"].([]any)
+			w := v["vote"].(map[string]any)["weights"].([]any)
 			w[0], w[1] = -0.25, w[1].(float64)+w[0].(float64)+0.25
 		})},
 		{"voter on an unknown column", edit(func(v map[string]any) {
@@ -218,6 +236,7 @@ func TestCoverage(t *testing.T) {
 	if testing.Short() {
 		t.Skip("slow: 300 train-and-certify runs")
 	}
+	t.Parallel()
 	const runs, rows, freshRows, delta = 300, 800, 50000, 0.1
 	var buf bytes.Buffer
 	if err := demodata.Write(&buf, demodata.Config{Rows: freshRows}, 999999); err != nil {
@@ -256,19 +275,3 @@ func TestCoverage(t *testing.T) {
 }
 
 func intp(v int) *int { return &v }
-
-func TestCreateAtomicNamesTheTarget(t *testing.T) {
-	dir := t.TempDir()
-	cases := []struct{ name, path, want string }{
-		{"missing folder", filepath.Join(dir, "nowhere", "m.json"), "the folder " + filepath.Join(dir, "nowhere") + " does not exist"},
-		{"a folder", dir, dir + ": it is a folder"},
-	}
-	for _, c := range cases {
-		t.Run(c.name, func(t *testing.T) {
-			err := WriteFileAtomic(c.path, []byte("x"))
-			if err == nil || !strings.Contains(err.Error(), c.want) || strings.Contains(err.Error(), ".tmp-") {
-				t.Errorf("error %v, want one saying %q without the temporary name", err, c.want)
-			}
-		})
-	}
-}

@@ -71,6 +71,7 @@ func baseline(t *testing.T, dataset string) float64 {
 // 20 half splits (our margin: Surety builds its pool on half of the
 // training half and certifies on the rest).
 func TestHouseVotes(t *testing.T) {
+	t.Parallel()
 	tab, err := datasets.ReadFile(ucidata.Path(t, "house-votes-84.csv"), datasets.ReadOptions{Label: "party"})
 	if err != nil {
 		t.Fatal(err)
@@ -150,6 +151,7 @@ func TestMNIST(t *testing.T) {
 	if testing.Short() {
 		t.Skip("MNIST: about half a minute")
 	}
+	t.Parallel()
 	train, err := datasets.ReadFile(ucidata.Path(t, "mnist_train.csv"), datasets.ReadOptions{Label: "label"})
 	if err != nil {
 		t.Fatal(err)

@@ -6,33 +6,41 @@ import (
 	"fmt"
 )
 
+// kinds makes an empty voter of each kind, for reading the JSON form. A
+// new kind adds its line here; nothing else switches on kinds.
+var kinds = map[string]func() Voter{
+	KindStump:    func() Voter { return &Stump{} },
+	KindCategory: func() Voter { return &CategoryStump{} },
+	KindLinear:   func() Voter { return &Linear{} },
+}
+
 // MarshalVoters writes vs as a JSON array of objects, each with a "kind"
-// tag and the exported fields of its kind. Only the kinds of this package
-// can be written.
+// tag first and then the exported fields of its kind. Only the kinds of
+// this package can be written.
 func MarshalVoters(vs []Voter) ([]byte, error) {
-	items := make([]any, len(vs))
+	var b bytes.Buffer
+	b.WriteByte('[')
 	for i, v := range vs {
-		switch v := v.(type) {
-		case *Stump:
-			items[i] = struct {
-				Kind string `json:"kind"`
-				*Stump
-			}{KindStump, v}
-		case *CategoryStump:
-			items[i] = struct {
-				Kind string `json:"kind"`
-				*CategoryStump
-			}{KindCategory, v}
-		case *Linear:
-			items[i] = struct {
-				Kind string `json:"kind"`
-				*Linear
-			}{KindLinear, v}
-		default:
+		if v == nil || kinds[v.Kind()] == nil {
 			return nil, fmt.Errorf("voters: marshal voter %d: kind %T has no JSON form", i, v)
 		}
+		body, err := json.Marshal(v)
+		if err != nil {
+			return nil, fmt.Errorf("voters: marshal voter %d: %w", i, err)
+		}
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		tag, _ := json.Marshal(v.Kind())
+		b.WriteString(`{"kind":`)
+		b.Write(tag)
+		if len(body) > 2 {
+			b.WriteByte(',')
+		}
+		b.Write(body[1:])
 	}
-	return json.Marshal(items)
+	b.WriteByte(']')
+	return b.Bytes(), nil
 }
 
 // UnmarshalVoters reads the array MarshalVoters writes; unknown kinds and
@@ -44,43 +52,40 @@ func UnmarshalVoters(data []byte) ([]Voter, error) {
 	}
 	vs := make([]Voter, len(raw))
 	for i, r := range raw {
-		var tag struct {
-			Kind string `json:"kind"`
-		}
-		if err := json.Unmarshal(r, &tag); err != nil {
-			return nil, fmt.Errorf("voters: unmarshal voter %d: %w", i, err)
-		}
-		var err error
-		switch tag.Kind {
-		case KindStump:
-			v := struct {
-				Kind string `json:"kind"`
-				*Stump
-			}{Stump: &Stump{}}
-			err = strict(r, &v)
-			vs[i] = v.Stump
-		case KindCategory:
-			v := struct {
-				Kind string `json:"kind"`
-				*CategoryStump
-			}{CategoryStump: &CategoryStump{}}
-			err = strict(r, &v)
-			vs[i] = v.CategoryStump
-		case KindLinear:
-			v := struct {
-				Kind string `json:"kind"`
-				*Linear
-			}{Linear: &Linear{}}
-			err = strict(r, &v)
-			vs[i] = v.Linear
-		default:
-			err = fmt.Errorf("unknown kind %q", tag.Kind)
-		}
+		v, err := unmarshalVoter(r)
 		if err != nil {
 			return nil, fmt.Errorf("voters: unmarshal voter %d: %w", i, err)
 		}
+		vs[i] = v
 	}
 	return vs, nil
+}
+
+// unmarshalVoter reads one tagged object: the tag picks the kind, and the
+// other fields must all belong to it.
+func unmarshalVoter(r json.RawMessage) (Voter, error) {
+	var fields map[string]json.RawMessage
+	if err := json.Unmarshal(r, &fields); err != nil {
+		return nil, err
+	}
+	var kind string
+	if err := json.Unmarshal(fields["kind"], &kind); err != nil {
+		return nil, fmt.Errorf("no kind tag")
+	}
+	newVoter := kinds[kind]
+	if newVoter == nil {
+		return nil, fmt.Errorf("unknown kind %q", kind)
+	}
+	delete(fields, "kind")
+	body, err := json.Marshal(fields)
+	if err != nil {
+		return nil, err
+	}
+	v := newVoter()
+	if err := strict(body, v); err != nil {
+		return nil, err
+	}
+	return v, nil
 }
 
 func strict(data []byte, v any) error {

@@ -26,9 +26,8 @@ type Linear struct {
 
 // LinearInput is one column of a Linear voter and how it becomes features.
 type LinearInput struct {
-	Column string `json:"column"`
-	// Kind is "numeric" or "categorical".
-	Kind string `json:"kind"`
+	Column string        `json:"column"`
+	Kind   datasets.Kind `json:"kind"`
 	// Mean and Scale standardise a numeric column into one feature
 	// (x-Mean)/Scale; a missing cell gives 0.
 	Mean  float64 `json:"mean,omitempty"`
@@ -47,20 +46,10 @@ type boundInput struct {
 }
 
 func (in *LinearInput) width() int {
-	if in.Kind == datasets.Categorical.String() {
+	if in.Kind == datasets.Categorical {
 		return len(in.Levels)
 	}
 	return 1
-}
-
-func (in *LinearInput) kind() (datasets.Kind, error) {
-	switch in.Kind {
-	case datasets.Numeric.String():
-		return datasets.Numeric, nil
-	case datasets.Categorical.String():
-		return datasets.Categorical, nil
-	}
-	return 0, fmt.Errorf("voters: linear input %q: unknown kind %q", in.Column, in.Kind)
 }
 
 // Kind returns KindLinear.
@@ -80,15 +69,11 @@ func (l *Linear) Bind(t *datasets.Table) error {
 	bound := make([]boundInput, len(l.Inputs))
 	for i := range l.Inputs {
 		in := &l.Inputs[i]
-		k, err := in.kind()
+		c, err := lookup(t, in.Column, in.Kind)
 		if err != nil {
 			return err
 		}
-		c, err := lookup(t, in.Column, k)
-		if err != nil {
-			return err
-		}
-		if k == datasets.Numeric {
+		if in.Kind == datasets.Numeric {
 			bound[i].num = c.Num
 			continue
 		}
@@ -145,6 +130,45 @@ func (l *Linear) score(c, row int) float64 {
 	return s
 }
 
+// Check reports inputs of unknown kind, scales and weights that are not
+// finite, and weight rows that do not match the inputs and classes.
+func (l *Linear) Check(classes int) error {
+	d := 0
+	for i := range l.Inputs {
+		in := &l.Inputs[i]
+		switch in.Kind {
+		case datasets.Numeric:
+			if !(in.Scale > 0) || math.IsInf(in.Scale, 1) {
+				return fmt.Errorf("scale of %q is %v, want a finite value > 0", in.Column, in.Scale)
+			}
+		case datasets.Categorical:
+		default:
+			return fmt.Errorf("linear input %q: unknown kind %d", in.Column, in.Kind)
+		}
+		if err := finite("mean of "+in.Column, in.Mean); err != nil {
+			return err
+		}
+		d += in.width()
+	}
+	if len(l.Weights) != classes || len(l.Bias) != classes {
+		return fmt.Errorf("%d weight rows and %d biases for %d classes", len(l.Weights), len(l.Bias), classes)
+	}
+	for c, w := range l.Weights {
+		if len(w) != d {
+			return fmt.Errorf("class %d has %d weights for %d features", c, len(w), d)
+		}
+		for _, x := range w {
+			if err := finite("a weight", x); err != nil {
+				return err
+			}
+		}
+		if err := finite("a bias", l.Bias[c]); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
 // Describe returns the scores as a formula in the standardised inputs,
 // z(col) for a numeric column and [col=level] for a one-hot feature.
 func (l *Linear) Describe(classes []string) string {
@@ -159,7 +183,7 @@ func (l *Linear) Describe(classes []string) string {
 		}
 		for i := range l.Inputs {
 			in := &l.Inputs[i]
-			if in.Kind == datasets.Numeric.String() {
+			if in.Kind == datasets.Numeric {
 				add(l.Weights[c][off], "z("+in.Column+")")
 				off++
 				continue
@@ -214,7 +238,7 @@ func standardise(t *datasets.Table, prior []int, columns []int) []LinearInput {
 			if scale == 0 {
 				scale = 1
 			}
-			inputs = append(inputs, LinearInput{Column: c.Name, Kind: c.Kind.String(), Mean: mean, Scale: scale})
+			inputs = append(inputs, LinearInput{Column: c.Name, Kind: c.Kind, Mean: mean, Scale: scale})
 			continue
 		}
 		seen := make([]bool, len(c.Levels))
@@ -230,7 +254,7 @@ func standardise(t *datasets.Table, prior []int, columns []int) []LinearInput {
 			}
 		}
 		if len(levels) > 0 {
-			inputs = append(inputs, LinearInput{Column: c.Name, Kind: c.Kind.String(), Levels: levels})
+			inputs = append(inputs, LinearInput{Column: c.Name, Kind: c.Kind, Levels: levels})
 		}
 	}
 	return inputs

@@ -15,28 +15,37 @@ import (
 type PoolConfig struct {
 	// Thresholds is the number of quantile thresholds per numeric column
 	// (before deduplication); 0 means 16.
-	Thresholds int
+	Thresholds int `json:"thresholds"`
 	// MaxLevels is the number of levels, the most frequent among the prior
 	// rows, that get stumps in a categorical column; 0 means 32.
-	MaxLevels int
+	MaxLevels int `json:"max_levels"`
 	// LinearVoters is the number of linear voters; nil means 32, a pointer
 	// to 0 means none.
-	LinearVoters *int
+	LinearVoters *int `json:"linear_voters"`
 	// LinearColumns is the number of columns, drawn at random for each
 	// linear voter; 0 means ceil(sqrt(number of usable columns)), and a
 	// value over that number means all of them.
-	LinearColumns int
+	LinearColumns int `json:"linear_columns"`
 	// L2 is the ridge strength of the linear voters (see the package doc);
 	// 0 means 0.01, scikit-learn's default C = 1 on 100 rows.
-	L2 float64
+	L2 float64 `json:"l2"`
 	// MaxVoters caps the pool size, linear voters included; 0 means 2048.
 	// When there are more stumps than MaxVoters minus the linear voters,
 	// the ones with the fewest prior-row errors are kept (see the package
 	// doc). A value below the number of linear voters is an error.
-	MaxVoters int
+	MaxVoters int `json:"max_voters"`
 	// LinearRows is the size of each linear voter's bootstrap sample, at
 	// most the number of prior rows; 0 means 20000.
-	LinearRows int
+	LinearRows int `json:"linear_rows"`
+}
+
+// DefaultPoolConfig returns every field's default, LinearVoters set. Its
+// LinearColumns stays 0: that default depends on the table (Pool.Config
+// holds the value a build used).
+func DefaultPoolConfig() PoolConfig {
+	c, linear, _ := PoolConfig{}.withDefaults()
+	c.LinearVoters = &linear
+	return c
 }
 
 // Defaults of PoolConfig.
@@ -69,6 +78,7 @@ func (c PoolConfig) withDefaults() (PoolConfig, int, error) {
 	if c.LinearVoters != nil {
 		linear = *c.LinearVoters
 	}
+	c.LinearVoters = &linear
 	switch {
 	case c.Thresholds < 0:
 		return c, 0, fmt.Errorf("voters: pool config: Thresholds is %d, want >= 0", c.Thresholds)
@@ -104,6 +114,9 @@ type Pool struct {
 	// Schema lists the columns some voter of the pool reads, in the
 	// table's order: the columns a table must have to bind the pool.
 	Schema []ColumnSpec
+	// Config is the configuration the pool was built with, every default
+	// resolved (LinearColumns to the width the linear voters drew).
+	Config PoolConfig
 
 	bound *datasets.Table
 }
@@ -129,7 +142,7 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 	if linear > 0 && rng == nil {
 		return nil, fmt.Errorf("voters: build pool: linear voters need a random source")
 	}
-	p := &Pool{Classes: slices.Clone(t.Classes)}
+	p := &Pool{Classes: slices.Clone(t.Classes), Config: cfg}
 	cs := &candidates{m: len(rows)}
 	var usable []int
 	for j := range t.Columns {
@@ -154,6 +167,7 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 			width = int(math.Ceil(math.Sqrt(float64(len(usable)))))
 		}
 		width = min(width, len(usable))
+		p.Config.LinearColumns = width
 		sample := make([]int, min(cfg.LinearRows, len(rows)))
 		for range linear {
 			perm := rng.Perm(len(usable))[:width]

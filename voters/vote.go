@@ -162,73 +162,28 @@ func (e *scoreSink) classes(vi int, pred []int32) {
 // numbers, linear weights of the wrong shape.
 func checkVoters(vs []Voter, k int) error {
 	for i, v := range vs {
-		if err := checkVoter(v, k); err != nil {
+		if v == nil {
+			return fmt.Errorf("voters: voter %d is nil", i)
+		}
+		if err := v.Check(k); err != nil {
 			return fmt.Errorf("voters: voter %d (%s): %w", i, v.Kind(), err)
 		}
 	}
 	return nil
 }
 
-func checkVoter(v Voter, k int) error {
-	class := func(c int) error {
-		if c < 0 || c >= k {
-			return fmt.Errorf("class %d out of range [0, %d)", c, k)
-		}
-		return nil
+// classIn checks a class index against k classes.
+func classIn(c, k int) error {
+	if c < 0 || c >= k {
+		return fmt.Errorf("class %d out of range [0, %d)", c, k)
 	}
-	finite := func(what string, x float64) error {
-		if math.IsNaN(x) || math.IsInf(x, 0) {
-			return fmt.Errorf("%s is %v", what, x)
-		}
-		return nil
-	}
-	switch v := v.(type) {
-	case nil:
-		return fmt.Errorf("nil voter")
-	case *Stump:
-		if err := class(v.Below); err != nil {
-			return err
-		}
-		if err := class(v.Above); err != nil {
-			return err
-		}
-		return finite("threshold", v.Threshold)
-	case *CategoryStump:
-		if err := class(v.Equal); err != nil {
-			return err
-		}
-		return class(v.Other)
-	case *Linear:
-		d := 0
-		for i := range v.Inputs {
-			in := &v.Inputs[i]
-			if _, err := in.kind(); err != nil {
-				return err
-			}
-			if err := finite("mean of "+in.Column, in.Mean); err != nil {
-				return err
-			}
-			if in.Kind == datasets.Numeric.String() && (!(in.Scale > 0) || math.IsInf(in.Scale, 1)) {
-				return fmt.Errorf("scale of %q is %v, want a finite value > 0", in.Column, in.Scale)
-			}
-			d += in.width()
-		}
-		if len(v.Weights) != k || len(v.Bias) != k {
-			return fmt.Errorf("%d weight rows and %d biases for %d classes", len(v.Weights), len(v.Bias), k)
-		}
-		for c, w := range v.Weights {
-			if len(w) != d {
-				return fmt.Errorf("class %d has %d weights for %d features", c, len(w), d)
-			}
-			for _, x := range w {
-				if err := finite("a weight", x); err != nil {
-					return err
-				}
-			}
-			if err := finite("a bias", v.Bias[c]); err != nil {
-				return err
-			}
-		}
+	return nil
+}
+
+// finite checks that a stored number is finite.
+func finite(what string, x float64) error {
+	if math.IsNaN(x) || math.IsInf(x, 0) {
+		return fmt.Errorf("%s is %v", what, x)
 	}
 	return nil
 }

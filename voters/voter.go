@@ -22,6 +22,10 @@ type Voter interface {
 	Predict(row int) int
 	// Describe returns a readable rule, such as "income <= 52300 -> approve".
 	Describe(classes []string) string
+	// Check reports fields that would make the voter misbehave with the
+	// given number of classes: a class out of range, a number that is not
+	// finite, weights of the wrong shape.
+	Check(classes int) error
 }
 
 // Kind tags of the voter kinds of this package.
@@ -82,6 +86,17 @@ func (s *Stump) Predict(row int) int {
 		return s.Below
 	}
 	return s.Above
+}
+
+// Check reports a class out of range or a threshold that is not finite.
+func (s *Stump) Check(classes int) error {
+	if err := classIn(s.Below, classes); err != nil {
+		return err
+	}
+	if err := classIn(s.Above, classes); err != nil {
+		return err
+	}
+	return finite("threshold", s.Threshold)
 }
 
 // Describe returns the rule, such as "income <= 52300 -> approve, else deny
@@ -145,6 +160,14 @@ func (s *CategoryStump) Predict(row int) int {
 		return s.Equal
 	}
 	return s.Other
+}
+
+// Check reports a class out of range.
+func (s *CategoryStump) Check(classes int) error {
+	if err := classIn(s.Equal, classes); err != nil {
+		return err
+	}
+	return classIn(s.Other, classes)
 }
 
 // Describe returns the rule, such as "region = north -> approve, else deny

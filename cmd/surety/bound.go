@@ -11,6 +11,7 @@ import (
 	"github.com/spf13/pflag"
 
 	"surety/objective"
+	"surety/trainer"
 )
 
 func init() {
@@ -20,12 +21,12 @@ func init() {
 			"and test-set bounds from errors counted on fresh rows. A bound whose figures are\n"+
 			"missing is left out with the reason. Each bound holds on its own with probability\n"+
 			"at least 1-delta; to quote the smallest of k of them, compute each at delta/k.",
-		func() command { return &boundCmd{delta: 0.05} })
+		func() command { return &boundOptions{delta: trainer.DefaultDelta} })
 }
 
-// boundCmd is `surety bound`: the bound arithmetic on figures from
+// boundOptions is `surety bound`: the bound arithmetic on figures from
 // elsewhere.
-type boundCmd struct {
+type boundOptions struct {
 	m                          int
 	delta, kl, gibbs, tandem   float64
 	disagreement, tradeoff     float64
@@ -37,7 +38,7 @@ type boundCmd struct {
 	disFlag, tradeoffFlag      *floatRange
 }
 
-func (c *boundCmd) AddFlags(fs *pflag.FlagSet) {
+func (c *boundOptions) AddFlags(fs *pflag.FlagSet) {
 	c.mFlag = &intRange{v: &c.m, lo: 1, hi: math.MaxInt, what: "m"}
 	c.klFlag = nonNegative(&c.kl, "KL")
 	c.gibbsFlag = fraction(&c.gibbs, 0, 1, "the Gibbs risk")
@@ -76,7 +77,7 @@ const (
 	groupFresh = "bounds from fresh rows"
 )
 
-func (c *boundCmd) run(_ context.Context, args []string, e *env) error {
+func (c *boundOptions) run(_ context.Context, args []string, e *env) error {
 	if len(args) > 0 {
 		return usagef("unexpected argument %q (every figure is a flag)", args[0])
 	}
@@ -106,7 +107,7 @@ func (c *boundCmd) run(_ context.Context, args []string, e *env) error {
 }
 
 // bounds computes every bound, leaving out those whose figures are missing.
-func (c *boundCmd) bounds() []boundLine {
+func (c *boundOptions) bounds() []boundLine {
 	var lines []boundLine
 	add := func(key, group string, need []string, make func() (objective.Bound, string, error)) {
 		l := boundLine{key: key, group: group}
@@ -212,7 +213,7 @@ func term(b objective.Bound, name string) float64 {
 	return math.NaN()
 }
 
-func (c *boundCmd) writeText(w io.Writer, lines []boundLine) error {
+func (c *boundOptions) writeText(w io.Writer, lines []boundLine) error {
 	var sb strings.Builder
 	sb.WriteString("inputs: " + strings.Join(c.inputList(), ", ") + "\n")
 	width := 0
@@ -251,7 +252,7 @@ func (c *boundCmd) writeText(w io.Writer, lines []boundLine) error {
 }
 
 // inputList echoes the given figures for the text output.
-func (c *boundCmd) inputList() []string {
+func (c *boundOptions) inputList() []string {
 	out := []string{fmt.Sprintf("delta = %g", c.delta)}
 	add := func(set bool, f string, v any) {
 		if set {
@@ -300,7 +301,7 @@ type boundItemJSON struct {
 	Terms map[string]float64 `json:"terms"`
 }
 
-func (c *boundCmd) writeJSON(w io.Writer, lines []boundLine) error {
+func (c *boundOptions) writeJSON(w io.Writer, lines []boundLine) error {
 	out := boundJSON{Inputs: boundInputsJSON{Delta: c.delta}, Bounds: map[string]boundItemJSON{}, LeftOut: map[string]string{}}
 	in := &out.Inputs
 	setInt := func(set bool, v int, dst **int) {

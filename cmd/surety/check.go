@@ -13,7 +13,7 @@ import (
 )
 
 func init() {
-	register("check", "--model FILE --data FILE [--delta 0.05] [--population N] [--json]",
+	register("check", "--model FILE --data FILE [--delta D] [--population N] [--json]",
 		"Check a vote on labelled fresh rows against its certificate (a verdict of drift is a finding, not a failure: exit 0).",
 		func() command { return &checkOptions{} })
 }
@@ -21,19 +21,18 @@ func init() {
 type checkOptions struct {
 	model      string
 	data       dataFlags
-	delta      float64
+	delta      deltaFlag
 	population int
-	json       bool
+	output     outputFlags
 }
 
 func (o *checkOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.StringVar(&o.model, "model", "", "model `file` written by train or sweep")
 	o.data.AddFlags(fs, false)
-	o.delta = 0.05
-	fs.Var(probability(&o.delta, "--delta"), "delta", "probability that each bound of the check is wrong, in (0, 1)")
+	o.delta.AddFlags(fs, "probability that each bound of the check is wrong")
 	fs.Var(&intRange{v: &o.population, lo: 2, hi: math.MaxInt, what: "--population"}, "population",
 		"size N of a fixed population the fresh rows are a uniform sample of, without replacement: bound the error on its N - n unlabelled rows")
-	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of text")
+	o.output.AddFlags(fs)
 }
 
 // checkJSON is check's --json output: the check and where it came from.
@@ -57,11 +56,11 @@ func (o *checkOptions) run(ctx context.Context, args []string, e *env) error {
 	if o.population != 0 && o.population <= t.Rows {
 		return usagef("--population %d must exceed the %d fresh rows: N counts the whole population, the labelled rows included", o.population, t.Rows)
 	}
-	res, err := trainer.Check(m, t, trainer.CheckConfig{Delta: o.delta, Population: o.population})
+	res, err := trainer.Check(m, t, trainer.CheckConfig{Delta: o.delta.delta, Population: o.population})
 	if err != nil {
 		return err
 	}
-	if o.json {
+	if o.output.json {
 		return writeJSON(e.stdout, checkJSON{ModelPath: o.model, DataPath: o.data.path, CheckResult: res,
 			ModelStatement: m.Certificate.Sentence(), Cautions: trainer.Cautions})
 	}

@@ -3,7 +3,6 @@ package main
 import (
 	"fmt"
 	"os"
-	"strings"
 
 	"github.com/spf13/pflag"
 
@@ -12,12 +11,14 @@ import (
 )
 
 // dataFlags are the flags that say how to read a CSV file, shared by every
-// command that reads one.
+// command that reads one. The file's own flag is --data unless flag names
+// another (with usage as its help).
 type dataFlags struct {
+	flag, usage      string
 	path             string
 	label            string
 	noHeader         bool
-	delimiter        string
+	delimiter        delimiter
 	missing          []string
 	categorical      []string
 	ignore           []string
@@ -25,13 +26,17 @@ type dataFlags struct {
 }
 
 func (d *dataFlags) AddFlags(fs *pflag.FlagSet, withLabel bool) {
-	fs.StringVar(&d.path, "data", "", "CSV `file` to read (plain or gzip; - for standard input)")
+	name, usage := "data", "CSV `file` to read (plain or gzip; - for standard input)"
+	if d.flag != "" {
+		name, usage = d.flag, d.usage
+	}
+	fs.StringVar(&d.path, name, "", usage)
 	if withLabel {
 		fs.StringVar(&d.label, "label", "", "label column `name` (default: the column named \"label\")")
 		fs.BoolVar(&d.dropMissingLabel, "drop-missing-label", false, "drop rows whose label is missing instead of failing")
 	}
 	fs.BoolVar(&d.noHeader, "no-header", false, "the file has no header row; columns are named c1..cN")
-	fs.StringVar(&d.delimiter, "delimiter", "", "field delimiter: one of , ; | or \"tab\" (default: detected from the first line)")
+	fs.Var(&d.delimiter, "delimiter", "field delimiter: one of , ; | or \"tab\" (default: detected from the first line)")
 	fs.StringSliceVar(&d.missing, "missing", nil, "cell `values` that mean missing (default: empty, NA, N/A, NaN, null, ?)")
 	fs.StringSliceVar(&d.categorical, "categorical", nil, "read these `columns` as categories even if they hold numbers")
 	fs.StringSliceVar(&d.ignore, "ignore", nil, "leave these `columns` out")
@@ -39,7 +44,7 @@ func (d *dataFlags) AddFlags(fs *pflag.FlagSet, withLabel bool) {
 
 // options turns the flags into reader options; base carries what the
 // command itself needs (for example a model's schema).
-func (d *dataFlags) options(base datasets.ReadOptions, warn func(string)) (datasets.ReadOptions, error) {
+func (d *dataFlags) options(base datasets.ReadOptions, warn func(string)) datasets.ReadOptions {
 	o := base
 	o.NoHeader = d.noHeader
 	if d.label != "" {
@@ -52,16 +57,10 @@ func (d *dataFlags) options(base datasets.ReadOptions, warn func(string)) (datas
 	o.Categorical = append(o.Categorical, d.categorical...)
 	o.Ignore = append(o.Ignore, d.ignore...)
 	o.Warn = warn
-	switch strings.ToLower(d.delimiter) {
-	case "":
-	case ",", ";", "|":
-		o.Delimiter = rune(d.delimiter[0])
-	case "tab", "\t":
-		o.Delimiter = '\t'
-	default:
-		return o, usagef("--delimiter must be one of , ; | tab, got %q", d.delimiter)
+	if d.delimiter != 0 {
+		o.Delimiter = rune(d.delimiter)
 	}
-	return o, nil
+	return o
 }
 
 // read reads the table named by --data.
@@ -82,12 +81,13 @@ func (d *dataFlags) read(e *env, base datasets.ReadOptions) (*datasets.Table, er
 // returns the read options of the flags over base, warnings to stderr.
 func (d *dataFlags) prepare(e *env, base datasets.ReadOptions) (datasets.ReadOptions, error) {
 	if d.path == "" {
-		return base, usagef("--data is required")
+		name := d.flag
+		if name == "" {
+			name = "data"
+		}
+		return base, usagef("--%s is required", name)
 	}
-	o, err := d.options(base, func(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) })
-	if err != nil {
-		return base, err
-	}
+	o := d.options(base, func(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) })
 	if d.path != "-" {
 		fi, err := os.Stat(d.path)
 		if err != nil {

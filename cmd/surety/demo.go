@@ -12,6 +12,7 @@ import (
 	"surety/datasets"
 	"surety/datasets/demodata"
 	"surety/trainer"
+	"surety/trainer/atomicfile"
 )
 
 func init() {
@@ -21,9 +22,12 @@ func init() {
 }
 
 type demoOptions struct {
-	train     trainOptions
 	rows      int
 	freshRows int
+	fit       fitFlags
+	train     trainFlags
+	out       string
+	output    outputFlags
 }
 
 func (o *demoOptions) AddFlags(fs *pflag.FlagSet) {
@@ -31,41 +35,25 @@ func (o *demoOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.Var(&intRange{v: &o.rows, lo: 2 * 2 * trainer.MinPartRows, hi: 1 << 30, what: "--rows"}, "rows", "rows of demo data to train and certify on")
 	o.freshRows = 200000
 	fs.Var(&intRange{v: &o.freshRows, lo: 1, hi: 1 << 30, what: "--fresh-rows"}, "fresh-rows", "fresh rows drawn to measure the vote's true error")
-	// The training flags, less those that read a user's file.
-	all := pflag.NewFlagSet("train", pflag.ContinueOnError)
-	o.train.AddFlags(all)
-	all.VisitAll(func(f *pflag.Flag) {
-		switch f.Name {
-		case "data", "label", "drop-missing-label", "no-header", "delimiter", "missing", "categorical", "ignore":
-		case "out":
-			f.DefValue = ""
-			o.train.out = ""
-			f.Usage = "model `file` to write (default: model.json in a new temporary folder)"
-			fs.AddFlag(f)
-		default:
-			fs.AddFlag(f)
-		}
-	})
+	o.fit.AddFlags(fs)
+	o.train.AddFlags(fs)
+	fs.StringVar(&o.out, "out", "", "model `file` to write (default: model.json in a new temporary folder)")
+	o.output.AddFlags(fs)
 }
 
 // demoJSON is demo's --json output: train's, plus the true error.
 type demoJSON struct {
 	trainJSON
-	DataPath       string  `json:"data_path"`
-	FreshRows      int     `json:"fresh_rows"`
-	FreshErrorRate float64 `json:"fresh_error_rate"`
-	BestErrorRate  float64 `json:"best_error_rate"`
+	DataPath string `json:"data_path"`
+	trainer.DemoMeasure
 }
 
 func (o *demoOptions) run(ctx context.Context, args []string, e *env) error {
 	if len(args) > 0 {
 		return usagef("unexpected argument %q", args[0])
 	}
-	cfg, err := o.train.config()
-	if err != nil {
-		return err
-	}
-	out := o.train.out
+	cfg := o.train.config(&o.fit)
+	out := o.out
 	if out == "" {
 		dir, err := os.MkdirTemp("", "surety-demo-")
 		if err != nil {
@@ -74,12 +62,11 @@ func (o *demoOptions) run(ctx context.Context, args []string, e *env) error {
 		out = filepath.Join(dir, "model.json")
 	}
 	dataPath := filepath.Join(filepath.Dir(out), "pipes.csv")
-	gen := demodata.Config{Rows: o.rows}
 	var buf bytes.Buffer
-	if err := demodata.Write(&buf, gen, o.train.seed); err != nil {
+	if err := demodata.Write(&buf, demodata.Config{Rows: o.rows}, cfg.Seed); err != nil {
 		return err
 	}
-	if err := trainer.WriteFileAtomic(dataPath, buf.Bytes()); err != nil {
+	if err := atomicfile.Write(dataPath, buf.Bytes()); err != nil {
 		return err
 	}
 	t, err := datasets.ReadFile(dataPath, datasets.ReadOptions{Label: demodata.Label})
@@ -93,34 +80,18 @@ func (o *demoOptions) run(ctx context.Context, args []string, e *env) error {
 	if err := trainer.WriteModel(out, m); err != nil {
 		return err
 	}
-
-	// The true error: the vote on many fresh rows from the same generator,
-	// drawn with another seed so none of them is a training row.
 	stop := e.spinner("measuring the true error")
-	buf.Reset()
-	if err := demodata.Write(&buf, demodata.Config{Rows: o.freshRows}, o.train.seed^0xf7e54); err != nil {
-		stop()
-		return err
-	}
-	ro := m.ReadOptions()
-	ro.NoLabel, ro.Label = false, demodata.Label
-	fresh, err := datasets.Read(&buf, "fresh demo rows", ro)
-	if err != nil {
-		stop()
-		return err
-	}
-	errs, err := m.CountErrors(fresh)
+	meas, err := trainer.MeasureDemo(m, o.freshRows, cfg.Seed)
 	stop()
 	if err != nil {
 		return err
 	}
-	rate := float64(errs) / float64(fresh.Rows)
-	if o.train.json {
-		return writeJSON(e.stdout, demoJSON{trainReport(t, m, out), dataPath, fresh.Rows, rate, gen.BayesError()})
+	if o.output.json {
+		return writeJSON(e.stdout, demoJSON{trainReport(t, m, out), dataPath, meas})
 	}
 	fmt.Fprintf(e.stdout, "demo: %d rows of generated pipe-inspection data (label %q: does a pipe segment leak within a year), written to %s\n\n", t.Rows, demodata.Label, dataPath)
 	printTrain(e.stdout, t, m, out)
 	fmt.Fprintf(e.stdout, "\ntrue error, measured on %d fresh rows from the same generator: %s (certificate %s; best possible %s, the label noise)\n",
-		fresh.Rows, pct(rate), pct(m.Certificate.RiskBound), pct(gen.BayesError()))
+		meas.Rows, pct(meas.ErrorRate), pct(m.Certificate.RiskBound), pct(meas.BayesError))
 	return nil
 }

@@ -213,3 +213,31 @@ func (f *positiveList) Set(s string) error {
 }
 
 func (f *positiveList) Type() string { return "floats" }
+
+// delimiter is a field delimiter flag: , ; | or tab (the word, or a tab
+// character); 0 means "detect".
+type delimiter rune
+
+func (d *delimiter) String() string {
+	switch *d {
+	case 0:
+		return ""
+	case '\t':
+		return "tab"
+	}
+	return string(rune(*d))
+}
+
+func (d *delimiter) Set(s string) error {
+	switch strings.ToLower(s) {
+	case ",", ";", "|":
+		*d = delimiter(s[0])
+	case "tab", "\t":
+		*d = '\t'
+	default:
+		return fmt.Errorf("--delimiter must be one of , ; | tab, got %q", s)
+	}
+	return nil
+}
+
+func (d *delimiter) Type() string { return "string" }

@@ -10,7 +10,7 @@ import (
 	"github.com/spf13/pflag"
 
 	"surety/datasets"
-	"surety/trainer"
+	"surety/trainer/atomicfile"
 )
 
 func init() {
@@ -65,9 +65,9 @@ func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 
 	collect := o.json && o.out == ""
 	var dst io.Writer = e.stdout
-	var file *trainer.AtomicFile
+	var file *atomicfile.File
 	if o.out != "" {
-		if file, err = trainer.CreateAtomic(o.out); err != nil {
+		if file, err = atomicfile.Create(o.out); err != nil {
 			return err
 		}
 		defer file.Abort()

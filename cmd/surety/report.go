@@ -4,17 +4,16 @@ import (
 	"bytes"
 	"context"
 	"fmt"
-	"os"
-	"path/filepath"
 
 	"github.com/spf13/pflag"
 
 	"surety/trainer"
+	"surety/trainer/atomicfile"
 	"surety/trainer/report"
 )
 
 func init() {
-	register("report", "--model FILE [--sweep DIR] [--check FILE] [--delta 0.05] [--out report.html] [--json]",
+	register("report", "--model FILE [--sweep DIR] [--check FILE] [--delta D] [--out report.html] [--json]",
 		"Write one self-contained HTML page on a model: certificate, ledger, data and split, voters as rules, plots, cautions; with a sweep and a check on fresh rows when given.",
 		func() command { return &reportOptions{} })
 }
@@ -24,34 +23,26 @@ type reportOptions struct {
 	sweep string
 	// check reads the fresh rows: its path is the --check flag, and the
 	// other data flags say how to read the file.
-	check dataFlags
-	delta float64
-	top   int
-	out   string
-	json  bool
+	check  dataFlags
+	delta  deltaFlag
+	top    int
+	out    string
+	output outputFlags
 }
 
 func (o *reportOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.StringVar(&o.model, "model", "", "model `file` written by train or sweep")
 	fs.StringVar(&o.sweep, "sweep", "", "sweep `folder` written by sweep --out-dir (or its sweep.json): adds the sweep's table and plot")
-	// The shared data flags, with --data renamed --check: the fresh rows
-	// are optional here and read with the model's schema and label.
-	data := pflag.NewFlagSet("data", pflag.ContinueOnError)
-	data.SortFlags = false
-	o.check.AddFlags(data, false)
-	data.VisitAll(func(f *pflag.Flag) {
-		if f.Name == "data" {
-			fs.Var(f.Value, "check", "labelled fresh CSV `file` to check the vote on (with the model's label column): adds the check and its plot")
-			return
-		}
-		fs.AddFlag(f)
-	})
-	o.delta = 0.05
-	fs.Var(probability(&o.delta, "--delta"), "delta", "probability that each bound of the check is wrong, in (0, 1)")
+	// The shared data flags, with --data named --check: the fresh rows are
+	// optional here and read with the model's schema and label.
+	o.check.flag = "check"
+	o.check.usage = "labelled fresh CSV `file` to check the vote on (with the model's label column): adds the check and its plot"
+	o.check.AddFlags(fs, false)
+	o.delta.AddFlags(fs, "probability that each bound of the check is wrong")
 	o.top = 10
 	fs.Var(&intRange{v: &o.top, lo: 1, hi: 1 << 20, what: "--top"}, "top", "number of voters to list as rules, heaviest first")
 	fs.StringVar(&o.out, "out", "report.html", "HTML `file` to write")
-	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of text")
+	o.output.AddFlags(fs)
 }
 
 // reportJSON is report's --json output; its keys are documented in the
@@ -68,11 +59,7 @@ func (o *reportOptions) run(ctx context.Context, args []string, e *env) error {
 	}
 	in := report.Input{Model: m, ModelPath: o.model, TopVoters: o.top}
 	if o.sweep != "" {
-		path, err := sweepFile(o.sweep)
-		if err != nil {
-			return err
-		}
-		if in.Sweep, err = trainer.ReadSweepFile(path); err != nil {
+		if in.Sweep, err = trainer.ReadSweepDir(o.sweep); err != nil {
 			return err
 		}
 		in.SweepPath = o.sweep
@@ -82,7 +69,7 @@ func (o *reportOptions) run(ctx context.Context, args []string, e *env) error {
 		if err != nil {
 			return err
 		}
-		if in.Check, err = trainer.Check(m, t, trainer.CheckConfig{Delta: o.delta}); err != nil {
+		if in.Check, err = trainer.Check(m, t, trainer.CheckConfig{Delta: o.delta.delta}); err != nil {
 			return err
 		}
 		in.CheckPath = o.check.path
@@ -91,26 +78,13 @@ func (o *reportOptions) run(ctx context.Context, args []string, e *env) error {
 	if err := report.Write(&page, in); err != nil {
 		return err
 	}
-	if err := trainer.WriteFileAtomic(o.out, page.Bytes()); err != nil {
+	if err := atomicfile.Write(o.out, page.Bytes()); err != nil {
 		return err
 	}
 	plots := report.PlotIDs(in)
-	if o.json {
+	if o.output.json {
 		return writeJSON(e.stdout, reportJSON{ReportPath: o.out, Plots: plots})
 	}
 	fmt.Fprintf(e.stdout, "report written to %s (%d plots: %v)\n", o.out, len(plots), plots)
 	return nil
-}
-
-// sweepFile is the sweep.json inside a sweep's folder, or the path itself
-// when it names a file.
-func sweepFile(path string) (string, error) {
-	fi, err := os.Stat(path)
-	if err != nil {
-		return "", err
-	}
-	if fi.IsDir() {
-		return filepath.Join(path, "sweep.json"), nil
-	}
-	return path, nil
 }

@@ -11,34 +11,40 @@ import (
 )
 
 func init() {
-	register("show", "MODEL_FILE [--top N] [--json]",
+	register("show", "--model FILE [--top N] [--json]   (or: show FILE)",
 		"Print a model's certificate, its heaviest voters as rules, and its provenance.",
 		func() command { return &showOptions{} })
 }
 
 type showOptions struct {
-	top  int
-	json bool
+	model  string
+	top    int
+	output outputFlags
 }
 
 func (o *showOptions) AddFlags(fs *pflag.FlagSet) {
+	fs.StringVar(&o.model, "model", "", "model `file` written by train or sweep (or give it as the one argument)")
 	o.top = 10
 	fs.Var(&intRange{v: &o.top, lo: 1, hi: 1 << 20, what: "--top"}, "top", "number of voters to list, heaviest first")
-	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of text")
+	o.output.AddFlags(fs)
 }
 
 func (o *showOptions) run(ctx context.Context, args []string, e *env) error {
-	if len(args) != 1 {
-		return usagef("show takes one model file, got %d arguments", len(args))
+	path := o.model
+	switch {
+	case len(args) == 1 && path == "":
+		path = args[0]
+	case len(args) > 1 || (len(args) == 1 && path != ""):
+		return usagef("show takes one model file, by --model or as its argument, got %d", len(args)+min(1, len(path)))
 	}
-	m, err := trainer.ReadModelFile(args[0])
+	m, err := modelArg(nil, path)
 	if err != nil {
 		return err
 	}
 	rules := m.TopVoters(o.top)
-	if o.json {
+	if o.output.json {
 		return writeJSON(e.stdout, map[string]any{
-			"model_path":  args[0],
+			"model_path":  path,
 			"certificate": m.Certificate,
 			"statement":   m.Certificate.Sentence(),
 			"empirical":   m.Empirical,
@@ -49,7 +55,7 @@ func (o *showOptions) run(ctx context.Context, args []string, e *env) error {
 			"cautions":    trainer.Cautions,
 		})
 	}
-	printShow(e.stdout, args[0], m, rules)
+	printShow(e.stdout, path, m, rules)
 	return nil
 }
 

@@ -3,7 +3,6 @@ package main
 import (
 	"context"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -12,7 +11,6 @@ import (
 
 	"surety/datasets"
 	"surety/trainer"
-	"surety/voters"
 )
 
 func init() {
@@ -22,69 +20,26 @@ func init() {
 }
 
 type trainOptions struct {
-	data          dataFlags
-	objective     string
-	tradeoff      float64
-	delta         float64
-	priorFraction float64
-	prior         string
-	seed          uint64
-	thresholds    int
-	linearVoters  int
-	maxVoters     int
-	out           string
-	json          bool
+	data   dataFlags
+	fit    fitFlags
+	train  trainFlags
+	out    string
+	output outputFlags
 }
-
-var objectiveWords = []string{"linear", "cbound", "tandem", "kl"}
 
 func (o *trainOptions) AddFlags(fs *pflag.FlagSet) {
 	o.data.AddFlags(fs, true)
-	o.objective = string(trainer.Tandem)
-	fs.Var(&enum{&o.objective, objectiveWords}, "objective", "bound the weights are fitted to: linear (Catoni's trade-off), cbound (two classes), tandem, or kl (first order)")
-	o.tradeoff = 1
-	fs.Var(positive(&o.tradeoff, "--tradeoff"), "tradeoff", "C in the linear objective C m r(Q) + KL(Q||P)")
-	o.delta = 0.05
-	fs.Var(probability(&o.delta, "--delta"), "delta", "probability that the certificate is wrong, in (0, 1)")
-	o.priorFraction = 0.5
-	fs.Var(&floatRange{v: &o.priorFraction, lo: 0, hi: 1, hiOpen: true, what: "--prior-fraction"}, "prior-fraction", "share of rows that build the pool and the prior, in [0, 1); the rest certify")
-	o.prior = string(trainer.LearnedPrior)
-	fs.Var(&enum{&o.prior, []string{"learned", "uniform"}}, "prior", "prior over the pool: learned (fitted on the prior rows) or uniform")
-	fs.Uint64Var(&o.seed, "seed", 1, "seed of the split and of the pool's random choices")
-	o.thresholds = 16
-	fs.Var(&intRange{v: &o.thresholds, lo: 1, hi: 1 << 16, what: "--thresholds"}, "thresholds", "stump thresholds per numeric column (quantiles of the prior rows)")
-	o.linearVoters = 32
-	fs.Var(&intRange{v: &o.linearVoters, lo: 0, hi: 1 << 16, what: "--linear-voters"}, "linear-voters", "number of logistic-regression voters (0 for none)")
-	o.maxVoters = voters.DefaultMaxVoters
-	fs.Var(&intRange{v: &o.maxVoters, lo: 1, hi: 1 << 16, what: "--max-voters"}, "max-voters", "largest pool, linear voters included; past it the stumps with the fewest prior-row errors are kept")
+	o.fit.AddFlags(fs)
+	o.train.AddFlags(fs)
 	fs.StringVar(&o.out, "out", "model.json", "model `file` to write")
-	fs.BoolVar(&o.json, "json", false, "print one JSON object instead of text")
-}
-
-// config turns the flags into a trainer configuration.
-func (o *trainOptions) config() (trainer.Config, error) {
-	if o.priorFraction == 0 {
-		return trainer.Config{}, errors.New("--prior-fraction 0 is not possible: the stumps' thresholds, the linear voters and the learned prior are all built from the prior rows, so no pool is free of the data; use a fraction in (0, 1)")
-	}
-	return trainer.Config{
-		Objective:     trainer.Objective(o.objective),
-		Tradeoff:      o.tradeoff,
-		Delta:         o.delta,
-		PriorFraction: o.priorFraction,
-		Prior:         trainer.PriorKind(o.prior),
-		Seed:          o.seed,
-		Pool:          poolConfig(o.thresholds, o.linearVoters, o.maxVoters),
-	}, nil
+	o.output.AddFlags(fs)
 }
 
 func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 	if len(args) > 0 {
 		return usagef("unexpected argument %q", args[0])
 	}
-	cfg, err := o.config()
-	if err != nil {
-		return err
-	}
+	cfg := o.train.config(&o.fit)
 	t, err := o.data.read(e, datasets.ReadOptions{})
 	if err != nil {
 		return err
@@ -96,7 +51,7 @@ func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 	if err := trainer.WriteModel(o.out, m); err != nil {
 		return err
 	}
-	if o.json {
+	if o.output.json {
 		return writeJSON(e.stdout, trainReport(t, m, o.out))
 	}
 	printTrain(e.stdout, t, m, o.out)
@@ -231,8 +186,4 @@ func printCautions(w io.Writer) {
 	for _, c := range trainer.Cautions {
 		fmt.Fprintf(w, "- %s\n", c)
 	}
-}
-
-func poolConfig(thresholds, linear, maxVoters int) voters.PoolConfig {
-	return voters.PoolConfig{Thresholds: thresholds, LinearVoters: &linear, MaxVoters: maxVoters}
 }

@@ -111,7 +111,7 @@ func TestTrainFailures(t *testing.T) {
 		{"prior fraction out of range", []string{"--data", data, "--prior-fraction", "1"}, 2, "--prior-fraction"},
 		{"negative thresholds", []string{"--data", data, "--thresholds", "-1"}, 2, "--thresholds"},
 		{"unknown objective", []string{"--data", data, "--objective", "best"}, 2, "objective"},
-		{"cbound needs two classes is fine here, zero prior fraction is not", []string{"--data", data, "--label", "leaked", "--prior-fraction", "0"}, 1, "prior-fraction 0"},
+		{"zero prior fraction", []string{"--data", data, "--label", "leaked", "--prior-fraction", "0"}, 2, "--prior-fraction must be in (0, 1)"},
 		{"missing file", []string{"--data", filepath.Join(dir, "nope.csv")}, 1, "nope.csv"},
 		{"folder as file", []string{"--data", dir}, 1, "is a folder"},
 		{"ragged row", []string{"--data", ragged}, 1, "ragged.csv:3"},
@@ -145,5 +145,67 @@ func TestDemo(t *testing.T) {
 		if !strings.Contains(out, want) {
 			t.Errorf("demo output lacks %q", want)
 		}
+	}
+}
+
+// Every objective of the library's table is reachable from the command
+// line, Chebyshev-Cantelli included, and the model records it.
+func TestTrainEveryObjective(t *testing.T) {
+	dir := t.TempDir()
+	data := demoFile(t, dir, 600)
+	for _, obj := range objectiveWords() {
+		t.Run(obj, func(t *testing.T) {
+			model := filepath.Join(dir, obj+".json")
+			_, errs, code := runSurety(t, "", "train", "--data", data, "--label", "leaked", "--objective", obj,
+				"--thresholds", "4", "--linear-voters", "2", "--out", model)
+			if code != 0 {
+				t.Fatalf("exit %d: %s", code, errs)
+			}
+			out, errs, code := runSurety(t, "", "show", "--model", model, "--json")
+			if code != 0 {
+				t.Fatalf("show --model: exit %d: %s", code, errs)
+			}
+			var rep struct {
+				Provenance struct {
+					Objective string `json:"objective"`
+					Pool      struct {
+						Thresholds   int     `json:"thresholds"`
+						LinearVoters int     `json:"linear_voters"`
+						L2           float64 `json:"l2"`
+						LinearRows   int     `json:"linear_rows"`
+					} `json:"pool"`
+				} `json:"provenance"`
+			}
+			if err := json.Unmarshal([]byte(out), &rep); err != nil {
+				t.Fatal(err)
+			}
+			p := rep.Provenance
+			if p.Objective != obj || p.Pool.Thresholds != 4 || p.Pool.LinearVoters != 2 || p.Pool.L2 == 0 || p.Pool.LinearRows == 0 {
+				t.Errorf("provenance %+v: want objective %s and the resolved pool settings", p, obj)
+			}
+		})
+	}
+}
+
+// Show takes the model by --model or as its one argument, not both.
+func TestShowModelArgument(t *testing.T) {
+	model := filepath.Join("testdata", "predict-model.json")
+	cases := []struct {
+		name string
+		args []string
+		code int
+	}{
+		{"flag", []string{"show", "--model", model}, 0},
+		{"argument", []string{"show", model}, 0},
+		{"both", []string{"show", "--model", model, model}, 2},
+		{"neither", []string{"show"}, 2},
+		{"two arguments", []string{"show", model, model}, 2},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			if _, errs, code := runSurety(t, "", c.args...); code != c.code {
+				t.Errorf("exit %d, want %d: %s", code, c.code, errs)
+			}
+		})
 	}
 }

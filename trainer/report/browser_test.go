@@ -61,6 +61,9 @@ const readPage = `(() => {
 // page. With CI=true a browser that cannot start fails the test; elsewhere
 // a missing browser skips it.
 func TestReportInBrowser(t *testing.T) {
+	if testing.Short() {
+		t.Skip("starts a browser; CI runs it without -short")
+	}
 	ci := os.Getenv("CI") == "true"
 	if _, err := os.Stat(chromiumPath); err != nil {
 		if ci {
