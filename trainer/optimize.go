@@ -2,6 +2,7 @@ package trainer
 
 import (
 	"errors"
+	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/optimize"
@@ -22,10 +23,22 @@ type OptimizerResult struct {
 	Polish int `json:"polish_steps"`
 	// Evaluations counts objective evaluations.
 	Evaluations int `json:"evaluations"`
-	// Status is gonum's stopping reason, for example "GradientThreshold"
-	// or "FunctionConvergence".
+	// Status is gonum's stopping reason for the L-BFGS phase, for example
+	// "GradientThreshold" or "FunctionConvergence".
 	Status string `json:"status"`
+	// Gap is the Frank-Wolfe gap at the result, <q, g> - min_i g_i with g
+	// the objective's gradient: zero exactly at a stationary point on the
+	// simplex, and for a convex objective an upper bound on how far the
+	// value is above the minimum (Jaggi 2013, ICML).
+	Gap float64 `json:"gap"`
+	// Converged says Gap reached GapTolerance times max(1, |Value|).
+	Converged bool `json:"converged"`
 }
+
+// GapTolerance is the relative Frank-Wolfe gap at which the optimiser
+// stops: the value is then within GapTolerance max(1, |value|) of the
+// minimum for a convex objective, far below the bounds' printed digits.
+const GapTolerance = 1e-5
 
 // startPoint is a candidate starting posterior.
 type startPoint struct {
@@ -35,11 +48,14 @@ type startPoint struct {
 
 // minimizeSimplex minimises prob over the probability simplex.
 //
-// The posterior is parametrised by softmax logits, q = softmax(x), and the
-// logits are fitted by gonum's L-BFGS. Each candidate start is evaluated and
-// the best finite one is used; the optimiser then only ever replaces it by a
-// point of lower value (the best point seen is returned, whatever the line
-// search did), so the result is never worse than any candidate.
+// Each candidate start is evaluated and the best finite one is used. A
+// short L-BFGS phase on softmax logits, q = softmax(x), at most 100
+// iterations, makes the large early moves; exponentiated-gradient steps
+// with a backtracking line search then finish, until the Frank-Wolfe gap
+// reaches GapTolerance or maxIter steps are spent (logits crawl in the tail,
+// where a logit's gradient is proportional to its weight; the multiplicative
+// steps do not). Only points of lower value ever replace the best one seen,
+// so the result is never worse than any candidate.
 func minimizeSimplex(prob objective.Problem, starts []startPoint, maxIter int) ([]float64, OptimizerResult, error) {
 	best := -1
 	bestVal := math.Inf(1)
@@ -101,16 +117,17 @@ func minimizeSimplex(prob objective.Problem, starts []startPoint, maxIter int) (
 	settings := &optimize.Settings{
 		GradientThreshold: 1e-12,
 		MajorIterations:   maxIter,
-		Converger:         &optimize.FunctionConverge{Absolute: 1e-13, Relative: 1e-13, Iterations: 20},
+		Converger:         &gapConverger{prob: prob, q: make([]float64, n), g: make([]float64, n)},
 	}
 	// A line search can fail far from the optimum when the objective's
 	// scale makes steps tiny in floating point; restarting from the best
 	// point seen resets the curvature memory and usually goes on.
 	status := "Failure"
 	iters := 0
-	for restart := 0; restart < maxRestarts && iters < maxIter; restart++ {
+	lbfgsIter := min(maxIter, 100)
+	for restart := 0; restart < maxRestarts && iters < lbfgsIter; restart++ {
 		before := seenVal
-		settings.MajorIterations = maxIter - iters
+		settings.MajorIterations = lbfgsIter - iters
 		res, err := optimize.Minimize(p, x0, settings, &optimize.LBFGS{})
 		if res != nil {
 			status = res.Status.String()
@@ -132,7 +149,7 @@ func minimizeSimplex(prob objective.Problem, starts []startPoint, maxIter int) (
 	// out of the tail, where softmax logits crawl (a logit's gradient is
 	// proportional to its weight). For the linear trade-off one step with
 	// eta = 1 lands on the Gibbs posterior exactly.
-	egIters := polish(prob, seenQ, &seenVal, maxIter)
+	egIters, gap := polish(prob, seenQ, &seenVal, maxIter)
 	evals += egIters
 	return seenQ, OptimizerResult{
 		Value:       seenVal,
@@ -142,20 +159,104 @@ func minimizeSimplex(prob objective.Problem, starts []startPoint, maxIter int) (
 		Polish:      egIters,
 		Evaluations: evals,
 		Status:      status,
+		Gap:         gap,
+		Converged:   gap <= GapTolerance*math.Max(1, math.Abs(seenVal)),
 	}, nil
 }
 
+// gapReached is the L-BFGS phase's status when the Frank-Wolfe gap reaches
+// GapTolerance.
+var gapReached = optimize.NewStatus("GapTolerance", false, nil)
+
+// gapConverger stops L-BFGS on the softmax logits once the posterior they
+// give has a Frank-Wolfe gap within GapTolerance, or when the value has
+// not moved for 20 iterations (to 1e-13), where further steps are rounding.
+type gapConverger struct {
+	prob objective.Problem
+	q, g []float64
+	flat optimize.FunctionConverge
+}
+
+func (c *gapConverger) Init(dim int) {
+	c.flat = optimize.FunctionConverge{Absolute: 1e-13, Relative: 1e-13, Iterations: 20}
+	c.flat.Init(dim)
+}
+
+func (c *gapConverger) Converged(loc *optimize.Location) optimize.Status {
+	softmax(c.q, loc.X)
+	c.prob.Grad(c.g, c.q)
+	v := c.prob.Func(c.q)
+	if fwGap(c.q, c.g) <= GapTolerance*math.Max(1, math.Abs(v)) {
+		return gapReached
+	}
+	return c.flat.Converged(loc)
+}
+
+// Summary says in a few words whether the optimiser converged and how far
+// it went: "converged (Frank-Wolfe gap 9.9e-06; 100 L-BFGS iterations, 502
+// multiplicative steps)".
+func (r OptimizerResult) Summary() string {
+	word := "converged"
+	if !r.Converged {
+		word = "did NOT converge"
+	}
+	return fmt.Sprintf("%s (Frank-Wolfe gap %.2g; %d L-BFGS iterations, %d multiplicative steps)", word, r.Gap, r.Iterations, r.Polish)
+}
+
+// negligibleWeight is the weight below which fwGap leaves a voter out of
+// the minimum: the divergence's slope ln(q_i/p_i) runs to -Inf as q_i goes
+// to 0, so a voter whose best weight is far below floating point (a bad
+// voter under a first-order bound, e^-300 say) would show a large gap that
+// no representable step can close, while all such voters together change
+// any value by less than 1e-13.
+const negligibleWeight = 1e-15
+
+// fwGap returns <q, g> - min_i g_i, the minimum over the voters of weight
+// at least negligibleWeight.
+func fwGap(q, g []float64) float64 {
+	var dot float64
+	lo := math.Inf(1)
+	for i := range q {
+		dot += q[i] * g[i]
+		if q[i] >= negligibleWeight {
+			lo = math.Min(lo, g[i])
+		}
+	}
+	return dot - lo
+}
+
 // polish improves q in place by exponentiated-gradient steps with a
-// backtracking step size, keeping only steps that lower the value; it
-// returns the number of steps tried.
-func polish(prob objective.Problem, q []float64, val *float64, maxSteps int) int {
+// backtracking step size, keeping only steps that lower the value, until
+// no step lowers it or the Frank-Wolfe gap is a hundredth of GapTolerance;
+// it returns the number of steps tried and the gap at the end.
+func polish(prob objective.Problem, q []float64, val *float64, maxSteps int) (int, float64) {
 	n := len(q)
 	g := make([]float64, n)
 	cand := make([]float64, n)
 	eta := 1.0
 	tries := 0
+	gap := math.Inf(1)
+	// Multiplicative steps cannot revive a weight that underflowed to 0
+	// (softmax logits far below the rest do), and at 0 the divergence's
+	// slope is -Inf: mix in a trace of uniform weight first, kept when it
+	// lowers the value, as it does wherever a weight of 0 is not optimal.
+	if !positive(q) {
+		for i := range cand {
+			cand[i] = (1-1e-9)*q[i] + 1e-9/float64(n)
+		}
+		if v := prob.Func(cand); v <= *val {
+			*val = v
+			copy(q, cand)
+		}
+	}
 	for step := 0; step < maxSteps; step++ {
 		prob.Grad(g, q)
+		// Past the tolerance, steps go on while they still lower the value:
+		// they are cheap, and an exact minimiser (the Gibbs posterior, one
+		// step away for the linear trade-off) is then reached.
+		if gap = fwGap(q, g); step > 0 && gap <= GapTolerance/100*math.Max(1, math.Abs(*val)) {
+			break
+		}
 		improved := false
 		for k := 0; k < 40; k++ {
 			tries++
@@ -164,7 +265,7 @@ func polish(prob objective.Problem, q []float64, val *float64, maxSteps int) int
 				*val = v
 				copy(q, cand)
 				improved = true
-				eta = math.Min(2*eta, 1)
+				eta *= 2
 				break
 			}
 			eta /= 2
@@ -173,7 +274,11 @@ func polish(prob objective.Problem, q []float64, val *float64, maxSteps int) int
 			break
 		}
 	}
-	return tries
+	if step := maxSteps; step > 0 {
+		prob.Grad(g, q)
+		gap = fwGap(q, g)
+	}
+	return tries, gap
 }
 
 // expStep writes q exp(-eta g), normalised, into dst, in log space.

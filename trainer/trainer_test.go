@@ -120,6 +120,9 @@ func TestFitNeverWorseThanStarts(t *testing.T) {
 				t.Fatal(err)
 			}
 			final := prob.Func(q)
+			if !res.Converged {
+				t.Errorf("did not converge: %s", res.Summary())
+			}
 			if math.Abs(final-res.Value) > 1e-12*math.Max(1, math.Abs(final)) {
 				t.Errorf("reported value %v, recomputed %v", res.Value, final)
 			}

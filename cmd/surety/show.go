@@ -73,7 +73,7 @@ func printShow(w io.Writer, path string, m *trainer.Model, rules []trainer.Rule)
 	fmt.Fprintf(w, "  split        %d prior rows, %d certify rows (fraction %g, seed %d)\n", p.PriorRows, p.CertifyRows, p.PriorFraction, p.Seed)
 	fmt.Fprintf(w, "  pool         %d voters\n", p.PoolSize)
 	fmt.Fprintf(w, "  objective    %s (trade-off %g), prior %s (uniform mix %g)\n", p.Objective, p.Tradeoff, p.Prior, p.PriorMix)
-	fmt.Fprintf(w, "  optimiser    %d iterations, %s\n", p.Optimizer.Iterations, p.Optimizer.Status)
+	fmt.Fprintf(w, "  optimiser    %s\n", p.Optimizer.Summary())
 	fmt.Fprintln(w)
 	printCautions(w)
 }

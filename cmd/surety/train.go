@@ -61,8 +61,12 @@ func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 func trainWithProgress(ctx context.Context, e *env, t *datasets.Table, cfg trainer.Config) (*trainer.Model, error) {
 	show, stop := e.stages()
 	cfg.Progress = show
-	defer stop()
-	return trainer.Train(ctx, t, cfg)
+	m, err := trainer.Train(ctx, t, cfg)
+	stop()
+	if err == nil && !m.Provenance.Optimizer.Converged {
+		fmt.Fprintf(e.stderr, "warning: the optimiser %s; the certificate holds all the same, but a better posterior may exist\n", m.Provenance.Optimizer.Summary())
+	}
+	return m, err
 }
 
 // trainJSON is the --json output of train; its keys are documented in the
@@ -132,8 +136,8 @@ func printTrain(w io.Writer, t *datasets.Table, m *trainer.Model, path string) {
 		t.Source, t.Rows, len(t.Columns), num, cat, t.LabelName, len(t.Classes))
 	fmt.Fprintf(w, "split      %d prior rows build the pool and the prior, %d certify rows (seed %d)\n", p.PriorRows, p.CertifyRows, p.Seed)
 	fmt.Fprintf(w, "pool       %d voters\n", p.PoolSize)
-	fmt.Fprintf(w, "optimiser  %s objective from the %s start: %d iterations, %s, value %.6g\n",
-		p.Objective, p.Optimizer.Start, p.Optimizer.Iterations, p.Optimizer.Status, p.Optimizer.Value)
+	fmt.Fprintf(w, "optimiser  %s objective from the %s start: value %.6g, %s\n",
+		p.Objective, p.Optimizer.Start, p.Optimizer.Value, p.Optimizer.Summary())
 	fmt.Fprintln(w)
 	printCertificate(w, m)
 	fmt.Fprintf(w, "\nmodel written to %s\n", path)

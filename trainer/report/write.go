@@ -209,7 +209,7 @@ func buildView(in Input, plots []Plot) view {
 		{"pool", fmt.Sprintf("%d voters", p.PoolSize)},
 		{"objective", objective},
 		{"prior", prior},
-		{"optimiser", fmt.Sprintf("from the %s start, %d iterations, %s, value %s", p.Optimizer.Start, p.Optimizer.Iterations, p.Optimizer.Status, fmtNum(p.Optimizer.Value))},
+		{"optimiser", fmt.Sprintf("from the %s start, value %s, %s", p.Optimizer.Start, fmtNum(p.Optimizer.Value), p.Optimizer.Summary())},
 		{"data fingerprint", fmt.Sprintf("SHA-256 %s (%d records, %d fields)", p.Data.SHA256, p.Data.Rows, p.Data.Columns)},
 		{"written by", "surety " + m.ToolVersion},
 	}
