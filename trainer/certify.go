@@ -3,6 +3,7 @@ package trainer
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"surety/objective"
 )
@@ -14,15 +15,31 @@ const (
 	FamilyCBound     = "c-bound"
 	FamilyChebyshev  = "chebyshev-cantelli"
 	FamilyHoldOut    = "hold-out"
+	FamilyBoosted    = "hold-out-boosted"
 )
 
-// The two votes a family may certify.
+// Families lists the certificate families in the order they are computed
+// and listed; the C-bound applies to two classes only.
+var Families = []string{FamilyFirstOrder, FamilyTandem, FamilyCBound, FamilyChebyshev, FamilyHoldOut, FamilyBoosted}
+
+// The votes a family may certify.
 const (
 	// VotePosterior is the posterior fitted on the certify rows.
 	VotePosterior = "posterior"
-	// VotePriorRows is the vote fitted on the prior rows alone.
+	// VotePriorRows is the vote fitted on the prior rows alone, by the
+	// configured objective.
 	VotePriorRows = "prior-rows"
+	// VoteBoosted is the vote weighted on the prior rows by boosting: the
+	// multinomial logistic loss of the vote, by coordinate descent.
+	VoteBoosted = "boosted"
 )
+
+// heldOut is a vote fixed before the certify rows were read, certified by
+// the test-set bound on its errors there.
+type heldOut struct {
+	family, vote string
+	errs         int
+}
 
 // Certificate is the risk certificate of the shipped vote and the ledger of
 // every family computed to get it.
@@ -124,8 +141,10 @@ func empirical(r rates, q, prior []float64, voteErrs int, binary bool) Empirical
 	return e
 }
 
-// certify computes every family that applies and picks the smallest.
-func certify(delta float64, e Empirical, holdErrs, classes int) (Certificate, error) {
+// certify computes every family that applies (only the one named, when
+// only is not "") and picks the smallest; each family gets an equal share
+// of delta.
+func certify(delta float64, e Empirical, held []heldOut, classes int, only string) (Certificate, error) {
 	type family struct {
 		name, vote string
 		bound      func(d float64) (objective.Bound, error)
@@ -143,14 +162,20 @@ func certify(delta float64, e Empirical, holdErrs, classes int) (Certificate, er
 			return objective.CBound(e.GibbsRisk, e.TandemRisk, e.KL, e.M, d)
 		}})
 	}
-	fams = append(fams,
-		family{FamilyChebyshev, VotePosterior, func(d float64) (objective.Bound, error) {
-			return objective.ChebyshevCantelliBound(e.GibbsRisk, e.TandemRisk, e.KL, e.M, d)
-		}},
-		family{FamilyHoldOut, VotePriorRows, func(d float64) (objective.Bound, error) {
-			return objective.TestSetBound(holdErrs, e.M, d)
-		}},
-	)
+	fams = append(fams, family{FamilyChebyshev, VotePosterior, func(d float64) (objective.Bound, error) {
+		return objective.ChebyshevCantelliBound(e.GibbsRisk, e.TandemRisk, e.KL, e.M, d)
+	}})
+	for _, h := range held {
+		fams = append(fams, family{h.family, h.vote, func(d float64) (objective.Bound, error) {
+			return objective.TestSetBound(h.errs, e.M, d)
+		}})
+	}
+	if only != "" {
+		fams = slices.DeleteFunc(fams, func(f family) bool { return f.name != only })
+		if len(fams) == 0 {
+			return Certificate{}, fmt.Errorf("family %q does not apply here", only)
+		}
+	}
 	share := delta / float64(len(fams))
 	c := Certificate{Delta: delta, CertifyRows: e.M, RiskBound: math.Inf(1)}
 	for _, f := range fams {

@@ -2,6 +2,8 @@ package trainer
 
 import (
 	"fmt"
+	"slices"
+	"strings"
 
 	"surety/voters"
 )
@@ -57,6 +59,10 @@ type Config struct {
 	// Pool sets the voter pool; its zero value means the voters package's
 	// defaults.
 	Pool voters.PoolConfig
+	// Family, when not "", is the one certificate family computed, chosen
+	// before seeing the data: it gets the whole delta instead of a share.
+	// Default "": every family that applies, the smallest kept.
+	Family string
 	// MaxIterations bounds each optimiser run. Default 1000.
 	MaxIterations int
 	// Progress, if not nil, is told when each stage starts.
@@ -107,6 +113,9 @@ func (c Config) validate(classes int) error {
 	case LearnedPrior, UniformPrior:
 	default:
 		return fmt.Errorf("trainer: unknown prior %q (want learned or uniform)", c.Prior)
+	}
+	if c.Family != "" && !slices.Contains(Families, c.Family) {
+		return fmt.Errorf("trainer: unknown certificate family %q (want one of %s)", c.Family, strings.Join(Families, ", "))
 	}
 	if !(c.Delta > 0 && c.Delta < 1) {
 		return fmt.Errorf("trainer: delta must be in (0, 1), got %g", c.Delta)

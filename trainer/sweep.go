@@ -122,7 +122,7 @@ func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult,
 		if err != nil {
 			return nil, fmt.Errorf("trainer: sweep: setting %s: %w", s, err)
 		}
-		cert, err := certify(res.SelectionDelta, f.emp, f.holdErrs, len(p.t.Classes))
+		cert, err := certify(res.SelectionDelta, f.emp, f.held(), len(p.t.Classes), p.cfg.Family)
 		if err != nil {
 			return nil, fmt.Errorf("trainer: sweep: setting %s: %w", s, err)
 		}

@@ -66,6 +66,9 @@ type Prepared struct {
 	// holdFits keeps the prior-rows fits by objective and trade-off: the
 	// prior kind does not enter them, so a sweep over priors reuses them.
 	holdFits map[Setting][]float64
+	// boosted is the boosted vote, fixed on the prior rows, with its
+	// certify-row errors; the same for every setting.
+	boosted *shipVote
 }
 
 // Prepare splits t, builds the pool on the prior rows and counts the
@@ -121,7 +124,44 @@ func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, err
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
+
+	p.stage("boost")
+	if err := p.boost(rng); err != nil {
+		return nil, err
+	}
 	return p, nil
+}
+
+// boostRows is the most prior rows the boosted vote is weighted on; above
+// it a seeded sample of that many is used (the pool is fixed already, and
+// the weights of a few thousand voters settle well before).
+const boostRows = 10000
+
+// boost weights the pool by boostWeights on the prior rows (a sample of
+// boostRows of them when there are more) and counts the vote's errors on
+// the certify rows.
+func (p *Prepared) boost(rng *rand.Rand) error {
+	rows := p.priorRows
+	if len(rows) > boostRows {
+		rows = slices.Clone(rows)
+		rng.Shuffle(len(rows), func(i, j int) { rows[i], rows[j] = rows[j], rows[i] })
+		rows = rows[:boostRows]
+		slices.Sort(rows)
+	}
+	votes, err := p.pool.Votes(p.t, rows)
+	if err != nil {
+		return fmt.Errorf("trainer: %w", err)
+	}
+	y := make([]int, len(rows))
+	for r, row := range rows {
+		y[r] = p.t.Label[row]
+	}
+	v := shipVote{vote: VoteBoosted, q: boostWeights(votes, y, len(p.t.Classes))}
+	if v.margins, v.errs, err = p.signedMargins(v.q); err != nil {
+		return err
+	}
+	p.boosted = &v
+	return nil
 }
 
 func (p *Prepared) stage(s string) {
@@ -143,15 +183,36 @@ func (p *Prepared) Fit(ctx context.Context, s Setting) (*Model, error) {
 	return f.model, nil
 }
 
+// shipVote is a vote a family may ship, with its errors and signed
+// margins on the certify rows.
+type shipVote struct {
+	vote    string
+	q       []float64
+	errs    int
+	margins []float64
+}
+
 // fitted is a Fit's model and what recertifying it at another delta needs:
-// both votes a family may ship and their empirical terms.
+// every vote a family may ship (the posterior first) and the posterior's
+// empirical terms.
 type fitted struct {
-	model       *Model
-	q, holdQ    []float64
-	emp         Empirical // of the posterior
-	holdErrs    int
-	holdMargins []float64
-	postMargins []float64
+	model *Model
+	emp   Empirical // of the posterior
+	votes []shipVote
+}
+
+// held lists the held-out votes, those fixed before the certify rows were
+// read, for certify.
+func (f *fitted) held() []heldOut {
+	var h []heldOut
+	for _, v := range f.votes[1:] {
+		fam := FamilyHoldOut
+		if v.vote == VoteBoosted {
+			fam = FamilyBoosted
+		}
+		h = append(h, heldOut{family: fam, vote: v.vote, errs: v.errs})
+	}
+	return h
 }
 
 func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
@@ -198,18 +259,20 @@ func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
 	}
 
 	p.stage("certify")
-	f := &fitted{q: q, holdQ: holdQ}
-	var postErrs int
-	f.postMargins, postErrs, err = p.signedMargins(q)
-	if err != nil {
+	post := shipVote{vote: VotePosterior, q: q}
+	if post.margins, post.errs, err = p.signedMargins(q); err != nil {
 		return nil, err
 	}
-	f.holdMargins, f.holdErrs, err = p.signedMargins(holdQ)
-	if err != nil {
+	hold := shipVote{vote: VotePriorRows, q: holdQ}
+	if hold.margins, hold.errs, err = p.signedMargins(holdQ); err != nil {
 		return nil, err
 	}
-	f.emp = empirical(p.certRates, q, prior, postErrs, len(t.Classes) == 2)
-	cert, err := certify(cfg.Delta, f.emp, f.holdErrs, len(t.Classes))
+	f := &fitted{votes: []shipVote{post, hold}}
+	if p.boosted != nil {
+		f.votes = append(f.votes, *p.boosted)
+	}
+	f.emp = empirical(p.certRates, q, prior, post.errs, len(t.Classes) == 2)
+	cert, err := certify(cfg.Delta, f.emp, f.held(), len(t.Classes), cfg.Family)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
@@ -247,13 +310,15 @@ func (f *fitted) ship(cert Certificate) {
 	m := f.model
 	m.Certificate = cert
 	m.Empirical = f.emp
-	w, margins := f.q, f.postMargins
-	if cert.Vote == VotePriorRows {
-		w, margins = f.holdQ, f.holdMargins
-		m.Empirical.VoteError = float64(f.holdErrs) / float64(f.emp.M)
+	v := f.votes[0]
+	for _, c := range f.votes {
+		if c.vote == cert.Vote {
+			v = c
+		}
 	}
-	m.Vote = &voters.Vote{Voters: m.Vote.Voters, Weights: w, Classes: m.Vote.Classes}
-	m.Empirical.Margins = marginHistogram(margins)
+	m.Empirical.VoteError = float64(v.errs) / float64(f.emp.M)
+	m.Vote = &voters.Vote{Voters: m.Vote.Voters, Weights: slices.Clone(v.q), Classes: m.Vote.Classes}
+	m.Empirical.Margins = marginHistogram(v.margins)
 }
 
 // signedMargins predicts the certify rows with weights w and returns each

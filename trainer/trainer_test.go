@@ -9,6 +9,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"strings"
 	"testing"
 
 	"surety/datasets"
@@ -278,3 +279,40 @@ func TestCoverage(t *testing.T) {
 }
 
 func intp(v int) *int { return &v }
+
+// A family fixed in advance gets the whole delta; an unknown one is
+// refused before any work.
+func TestFamilyFixedInAdvance(t *testing.T) {
+	tab := demoTable(t, 800, 2)
+	cases := []struct {
+		name, family string
+		lines        int
+	}{
+		{"all", "", 6},
+		{"hold-out", FamilyHoldOut, 1},
+		{"boosted", FamilyBoosted, 1},
+		{"tandem", FamilyTandem, 1},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			m, err := Train(context.Background(), tab, Config{Seed: 1, Family: c.family, Pool: voters.PoolConfig{Thresholds: 4, LinearVoters: intp(2)}})
+			if err != nil {
+				t.Fatal(err)
+			}
+			cert := m.Certificate
+			if len(cert.Families) != c.lines {
+				t.Fatalf("%d ledger lines, want %d", len(cert.Families), c.lines)
+			}
+			var sum float64
+			for _, f := range cert.Families {
+				sum += f.Delta
+			}
+			if math.Abs(sum-cert.Delta) > 1e-15 || (c.family != "" && cert.Family != c.family) {
+				t.Errorf("shares sum to %v of %v; family %s", sum, cert.Delta, cert.Family)
+			}
+		})
+	}
+	if _, err := Train(context.Background(), tab, Config{Family: "best"}); err == nil || !strings.Contains(err.Error(), "unknown certificate family") {
+		t.Errorf("unknown family: %v", err)
+	}
+}

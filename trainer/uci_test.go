@@ -11,33 +11,6 @@ import (
 	"surety/datasets/ucidata"
 )
 
-// subset returns the rows of t as a table of its own.
-func subset(t *datasets.Table, rows []int) *datasets.Table {
-	s := *t
-	s.Rows = len(rows)
-	s.Columns = make([]datasets.Column, len(t.Columns))
-	s.Label = make([]int, len(rows))
-	for i, r := range rows {
-		s.Label[i] = t.Label[r]
-	}
-	for j, c := range t.Columns {
-		n := c
-		if c.Kind == datasets.Numeric {
-			n.Num = make([]float64, len(rows))
-			for i, r := range rows {
-				n.Num[i] = c.Num[r]
-			}
-		} else {
-			n.Codes = make([]uint32, len(rows))
-			for i, r := range rows {
-				n.Codes[i] = c.Codes[r]
-			}
-		}
-		s.Columns[j] = n
-	}
-	return &s
-}
-
 // baseline reads a test error from testdata/trainer/baseline.csv, made by
 // testdata/trainer/baseline.py with scikit-learn's AdaBoost (500 stumps).
 func baseline(t *testing.T, dataset string) float64 {
@@ -82,11 +55,11 @@ func TestHouseVotes(t *testing.T) {
 	}
 	for _, obj := range []Objective{Tandem, CBound, KL, Linear} {
 		t.Run(string(obj), func(t *testing.T) {
-			m, err := Train(context.Background(), subset(tab, trainRows), Config{Objective: obj, Seed: 3})
+			m, err := Train(context.Background(), tab.Subset(trainRows), Config{Objective: obj, Seed: 3})
 			if err != nil {
 				t.Fatal(err)
 			}
-			errs, err := m.CountErrors(subset(tab, testRows))
+			errs, err := m.CountErrors(tab.Subset(testRows))
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -100,31 +73,6 @@ func TestHouseVotes(t *testing.T) {
 			}
 		})
 	}
-}
-
-// classSubset keeps the rows of t whose class is one of names, as a table
-// whose classes are names (in that order).
-func classSubset(t *datasets.Table, names ...string) *datasets.Table {
-	code := map[int]int{}
-	for j, n := range names {
-		for i, c := range t.Classes {
-			if c == n {
-				code[i] = j
-			}
-		}
-	}
-	var rows []int
-	for r, c := range t.Label {
-		if _, ok := code[c]; ok {
-			rows = append(rows, r)
-		}
-	}
-	s := subset(t, rows)
-	for i, c := range s.Label {
-		s.Label[i] = code[c]
-	}
-	s.Classes = names
-	return s
 }
 
 // On golearn's MNIST sample (5,000 training and 500 test images of 28 x 28
@@ -167,7 +115,7 @@ func TestMNIST(t *testing.T) {
 		strict         bool // certificate >= raw test error
 	}{
 		{"ten digits", "mnist-10", train, test, 0, true},
-		{"3 against 8", "mnist-3v8", classSubset(train, "3", "8"), classSubset(test, "3", "8"), 0.08, false},
+		{"3 against 8", "mnist-3v8", train.ClassSubset("3", "8"), test.ClassSubset("3", "8"), 0.08, false},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

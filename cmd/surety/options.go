@@ -96,15 +96,22 @@ func (p *poolFlags) config() voters.PoolConfig {
 }
 
 // trainFlags are the groups every training command shares: the split, the
-// pool and the certificate's delta.
+// pool, the certificate's delta and its family.
 type trainFlags struct {
-	split splitFlags
-	pool  poolFlags
-	delta deltaFlag
+	split  splitFlags
+	pool   poolFlags
+	delta  deltaFlag
+	family string
 }
+
+// allFamilies is --family's word for "every family that applies".
+const allFamilies = "all"
 
 func (t *trainFlags) AddFlags(fs *pflag.FlagSet) {
 	t.delta.AddFlags(fs, "probability that the certificate is wrong")
+	t.family = allFamilies
+	fs.Var(&enum{&t.family, append([]string{allFamilies}, trainer.Families...)}, "family",
+		"certificate family, chosen before seeing the data, that gets the whole delta; all: every family that applies at an equal share, the smallest kept")
 	t.split.AddFlags(fs)
 	t.pool.AddFlags(fs)
 }
@@ -113,6 +120,9 @@ func (t *trainFlags) AddFlags(fs *pflag.FlagSet) {
 // sets the setting.
 func (t *trainFlags) config(fit *fitFlags) trainer.Config {
 	c := trainer.Config{Delta: t.delta.delta, PriorFraction: t.split.fraction, Seed: t.split.seed, Pool: t.pool.config()}
+	if t.family != allFamilies {
+		c.Family = t.family
+	}
 	if fit != nil {
 		fit.apply(&c)
 	}

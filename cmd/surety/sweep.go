@@ -121,8 +121,8 @@ func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir
 		fmt.Fprintln(w, line)
 	}
 	for _, m := range res.Models {
-		if m.Certificate.Vote == trainer.VotePriorRows {
-			fmt.Fprintf(w, "  (a %s row ships the vote fitted on the prior rows alone; its KL is the unshipped posterior's, which its certificate does not use)\n", trainer.FamilyHoldOut)
+		if m.Certificate.Vote != trainer.VotePosterior {
+			fmt.Fprintf(w, "  (a hold-out row ships a vote fixed on the prior rows alone; its KL is the unshipped posterior's, which its certificate does not use)\n")
 			break
 		}
 	}

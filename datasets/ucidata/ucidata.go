@@ -7,6 +7,7 @@
 package ucidata
 
 import (
+	"fmt"
 	"os/exec"
 	"path/filepath"
 	"strings"
@@ -28,13 +29,24 @@ var (
 // folder, failing the test when the module cannot be found.
 func Path(tb testing.TB, name string) string {
 	tb.Helper()
+	p, err := File(name)
+	if err != nil {
+		tb.Fatal(err)
+	}
+	return p
+}
+
+// File returns the path of the named file in golearn's examples/datasets
+// folder, found with `go list` from the current folder (inside this
+// module).
+func File(name string) (string, error) {
 	once.Do(func() {
 		var out []byte
 		out, err = exec.Command("go", "list", "-m", "-f", "{{.Dir}}", module).Output()
 		dir = strings.TrimSpace(string(out))
 	})
 	if err != nil || dir == "" {
-		tb.Fatalf("ucidata: cannot locate module %s (run `go mod download`): %v", module, err)
+		return "", fmt.Errorf("ucidata: cannot locate module %s (run `go mod download`): %v", module, err)
 	}
-	return filepath.Join(dir, "examples", "datasets", name)
+	return filepath.Join(dir, "examples", "datasets", name), nil
 }
