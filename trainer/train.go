@@ -152,6 +152,21 @@ func (p *Prepared) boost(rng *rand.Rand) error {
 	if err != nil {
 		return fmt.Errorf("trainer: %w", err)
 	}
+	// A voter fitted by cross-validation is scored by its out-of-fold
+	// classes, so the weighting sees how it does on rows it was not fitted
+	// on (Pool.OutOfFold follows the prior rows' order).
+	pos := make(map[int]int, len(p.priorRows))
+	for j, r := range p.priorRows {
+		pos[r] = j
+	}
+	for i, oof := range p.pool.OutOfFold {
+		if oof == nil {
+			continue
+		}
+		for r, row := range rows {
+			votes[i][r] = uint8(oof[pos[row]])
+		}
+	}
 	y := make([]int, len(rows))
 	for r, row := range rows {
 		y[r] = p.t.Label[row]

@@ -34,25 +34,31 @@ func TestMaxVotersKeepsFewestErrors(t *testing.T) {
 		miss      float64
 		maxVoters int
 		linear    int
+		noFull    bool // the full linear voter, last, counts against the cap too
 	}{
-		{name: "two classes, one kept", classes: 2, maxVoters: 1},
-		{name: "two classes with missing cells", classes: 2, miss: 0.1, maxVoters: 7},
-		{name: "three classes with missing cells", classes: 3, miss: 0.1, maxVoters: 12},
-		{name: "four classes, many ties", classes: 4, miss: 0.3, maxVoters: 25},
-		{name: "linear voters count against the cap", classes: 3, miss: 0.05, maxVoters: 10, linear: 3},
-		{name: "cap equal to the linear voters", classes: 2, maxVoters: 2, linear: 2},
+		{name: "two classes, one kept", classes: 2, maxVoters: 2},
+		{name: "two classes, one kept, no full linear voter", classes: 2, maxVoters: 1, noFull: true},
+		{name: "two classes with missing cells", classes: 2, miss: 0.1, maxVoters: 8},
+		{name: "three classes with missing cells", classes: 3, miss: 0.1, maxVoters: 13},
+		{name: "four classes, many ties", classes: 4, miss: 0.3, maxVoters: 26},
+		{name: "linear voters count against the cap", classes: 3, miss: 0.05, maxVoters: 11, linear: 3},
+		{name: "cap equal to the linear voters", classes: 2, maxVoters: 3, linear: 2},
+		{name: "cap equal to the linear voters, no full linear voter", classes: 2, maxVoters: 2, linear: 2, noFull: true},
 	}
 	for i, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			rng := rand.New(rand.NewPCG(uint64(i), 31))
 			tab := randomTable(rng, 600, tc.classes, tc.miss)
 			prior := rng.Perm(tab.Rows)[:300]
-			full, err := BuildPool(tab, prior, PoolConfig{Thresholds: 6, LinearVoters: noLinear, MaxVoters: 1 << 20}, nil)
+			full, err := BuildPool(tab, prior, PoolConfig{Thresholds: 6, LinearVoters: noLinear, NoFullLinear: true, MaxVoters: 1 << 20}, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
 			errs := priorErrors(tab, prior, full.Voters)
 			keep := tc.maxVoters - tc.linear
+			if !tc.noFull {
+				keep--
+			}
 			if len(full.Voters) <= keep {
 				t.Fatalf("%d candidates, not over the %d kept: the case tests nothing", len(full.Voters), keep)
 			}
@@ -69,7 +75,7 @@ func TestMaxVotersKeepsFewestErrors(t *testing.T) {
 			}
 
 			linear := tc.linear
-			capped, err := BuildPool(tab, prior, PoolConfig{Thresholds: 6, LinearVoters: &linear, MaxVoters: tc.maxVoters},
+			capped, err := BuildPool(tab, prior, PoolConfig{Thresholds: 6, LinearVoters: &linear, MaxVoters: tc.maxVoters, NoFullLinear: tc.noFull},
 				rand.New(rand.NewPCG(5, 5)))
 			if err != nil {
 				t.Fatal(err)
@@ -139,12 +145,14 @@ func TestSchemaListsReadColumns(t *testing.T) {
 		cfg  PoolConfig
 		want []string
 	}{
-		{name: "stumps only: columns without a split are left out", cfg: PoolConfig{Thresholds: 2, LinearVoters: noLinear},
+		{name: "stumps only: columns without a split are left out", cfg: PoolConfig{Thresholds: 2, LinearVoters: noLinear, NoFullLinear: true},
 			want: []string{"noise", "good"}},
-		{name: "the cap drops a column's stumps", cfg: PoolConfig{Thresholds: 2, LinearVoters: noLinear, MaxVoters: 1},
+		{name: "the cap drops a column's stumps", cfg: PoolConfig{Thresholds: 2, LinearVoters: noLinear, NoFullLinear: true, MaxVoters: 1},
 			want: []string{"good"}},
-		{name: "a linear voter reads every usable column", cfg: PoolConfig{Thresholds: 2, LinearVoters: &one, LinearColumns: 10, MaxVoters: 1},
+		{name: "a linear voter reads every usable column", cfg: PoolConfig{Thresholds: 2, LinearVoters: &one, LinearColumns: 10, MaxVoters: 1, NoFullLinear: true},
 			want: []string{"constant", "noise", "good", "single"}},
+		{name: "the full linear voter skips constant numeric columns", cfg: PoolConfig{Thresholds: 2, LinearVoters: noLinear, MaxVoters: 1},
+			want: []string{"noise", "good", "single"}},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -217,7 +225,7 @@ func TestLinearRowsSample(t *testing.T) {
 	prior := rng.Perm(tab.Rows)[:600]
 	one := 1
 	const n = 90
-	p, err := BuildPool(tab, prior, PoolConfig{Thresholds: 2, LinearVoters: &one, LinearRows: n, LinearColumns: 2},
+	p, err := BuildPool(tab, prior, PoolConfig{Thresholds: 2, LinearVoters: &one, LinearRows: n, LinearColumns: 2, NoFullLinear: true},
 		rand.New(rand.NewPCG(3, 3)))
 	if err != nil {
 		t.Fatal(err)
@@ -261,6 +269,7 @@ func TestPoolCapConfigErrors(t *testing.T) {
 		{"negative MaxVoters", PoolConfig{MaxVoters: -1}, []string{"MaxVoters is -1"}},
 		{"MaxVoters below the default linear voters", PoolConfig{MaxVoters: 10}, []string{"MaxVoters is 10", "32 linear voters"}},
 		{"MaxVoters below the linear voters", PoolConfig{MaxVoters: 2, LinearVoters: &three}, []string{"MaxVoters is 2", "3 linear voters"}},
+		{"MaxVoters leaves no room for the full linear voter", PoolConfig{MaxVoters: 3, LinearVoters: &three}, []string{"MaxVoters is 3", "full linear voter"}},
 		{"negative LinearRows", PoolConfig{LinearRows: -5}, []string{"LinearRows is -5"}},
 	}
 	for _, tc := range cases {
@@ -280,7 +289,8 @@ func TestPoolCapConfigErrors(t *testing.T) {
 
 // TestMNISTPoolCapped: golearn's MNIST sample (784 pixel columns, 10
 // classes) gives far more stump candidates than the default cap; the pool
-// keeps at most DefaultMaxVoters voters and Count works on 500 rows.
+// keeps at most DefaultMaxVoters voters, the full linear voter among them,
+// and Count works on 500 rows.
 func TestMNISTPoolCapped(t *testing.T) {
 	if testing.Short() {
 		t.Skip("MNIST pool skipped under -short")
@@ -315,7 +325,8 @@ func TestMNISTPoolCapped(t *testing.T) {
 			linear++
 		}
 	}
-	if linear != DefaultLinearVoters || len(p.Voters) != DefaultMaxVoters {
-		t.Fatalf("%d voters of which %d linear, want %d of which %d", len(p.Voters), linear, DefaultMaxVoters, DefaultLinearVoters)
+	// The bootstrap linear voters and the full one.
+	if linear != DefaultLinearVoters+1 || len(p.Voters) != DefaultMaxVoters {
+		t.Fatalf("%d voters of which %d linear, want %d of which %d", len(p.Voters), linear, DefaultMaxVoters, DefaultLinearVoters+1)
 	}
 }

@@ -51,11 +51,30 @@
 // norm of the weights (intercepts are not penalised), which is
 // scikit-learn's LogisticRegression with C = 1/(L2 n) on n rows.
 //
+// The full linear voter (on unless PoolConfig.NoFullLinear) is the same
+// model on every usable column (numeric columns constant on the prior rows
+// left out), fitted by [FitLinearCV] on the prior rows (at most
+// PoolConfig.LinearRows of them) with its strength chosen by stratified
+// 5-fold cross-validation over [DefaultCGrid] by out-of-fold log-loss.
+// It is the pool's last voter, after the bootstrap linear voters, and
+// draws from the rng after them, so the rest of the pool is the same with
+// or without it.
+//
+// # Out-of-sample rows
+//
+// A later weighting step may score the linear voters on prior rows they
+// were not fitted on: [Pool].OutOfBag holds each bootstrap voter's
+// out-of-bag rows, [Pool].OutOfFold the full voter's out-of-fold classes.
+// Stumps need neither: their thresholds are label-free quantiles and the
+// labels only pick each split's pair of classes and missing-cell side from
+// class counts, so their prior-row error is only mildly optimistic.
+//
 // # Pool size
 //
 // PoolConfig.MaxVoters (2048 by default) caps the pool, linear voters
 // included, since the joint-error counts grow with its square. When the
-// stumps outnumber MaxVoters minus the linear voters, BuildPool keeps those
+// stumps outnumber MaxVoters minus the linear voters (the full one
+// included), BuildPool keeps those
 // that get the fewest prior rows wrong (a missing cell counted on the side
 // the stump's missing rule sends it), ties to the earlier stump, and keeps
 // them in pool order: columns in table order, then thresholds or levels,

@@ -30,7 +30,7 @@ func ExampleBuildPool() {
 	// stump.
 	prior, certify := []int{0, 2, 4, 6}, []int{1, 3, 5, 7}
 	none := 0
-	pool, err := voters.BuildPool(t, prior, voters.PoolConfig{Thresholds: 2, LinearVoters: &none}, rand.New(rand.NewPCG(1, 2)))
+	pool, err := voters.BuildPool(t, prior, voters.PoolConfig{Thresholds: 2, LinearVoters: &none, NoFullLinear: true}, rand.New(rand.NewPCG(1, 2)))
 	if err != nil {
 		fmt.Println(err)
 		return
@@ -57,7 +57,7 @@ func ExampleBuildPool_maxVoters() {
 	// Four stumps split the prior rows; a cap of 2 keeps the two with the
 	// fewest prior-row errors. Region splits nothing and no voter reads it,
 	// so the schema leaves it out.
-	pool, err := voters.BuildPool(t, prior, voters.PoolConfig{Thresholds: 2, LinearVoters: &none, MaxVoters: 2}, nil)
+	pool, err := voters.BuildPool(t, prior, voters.PoolConfig{Thresholds: 2, LinearVoters: &none, NoFullLinear: true, MaxVoters: 2}, nil)
 	if err != nil {
 		fmt.Println(err)
 		return

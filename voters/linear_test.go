@@ -10,7 +10,8 @@ import (
 
 // TestLinearSeparable: on a table every column of which separates the
 // classes with a wide gap, every linear voter (random columns, bootstrap
-// sample) classifies all the prior rows, so its bootstrap sample too.
+// sample; and the full voter, last) classifies all the prior rows, so its
+// bootstrap sample too.
 func TestLinearSeparable(t *testing.T) {
 	for _, k := range []int{2, 3} {
 		t.Run(fmt.Sprintf("%d classes", k), func(t *testing.T) {
@@ -44,12 +45,16 @@ func TestLinearSeparable(t *testing.T) {
 				t.Fatal(err)
 			}
 			linear := 0
-			for _, v := range p.Voters {
+			for i, v := range p.Voters {
 				l, ok := v.(*Linear)
 				if !ok {
 					continue
 				}
-				linear++
+				if p.OutOfBag[i] != nil {
+					linear++
+				} else if i != len(p.Voters)-1 || p.OutOfFold[i] == nil {
+					t.Fatalf("linear voter %d has no out-of-bag rows and is not the full voter", i)
+				}
 				for r := range m {
 					if got := l.Predict(r); got != tab.Label[r] {
 						t.Fatalf("voter on %v misclassifies row %d: %d, want %d", l.Columns(), r, got, tab.Label[r])
@@ -57,7 +62,7 @@ func TestLinearSeparable(t *testing.T) {
 				}
 			}
 			if linear != 8 {
-				t.Fatalf("%d linear voters, want 8", linear)
+				t.Fatalf("%d bootstrap linear voters, want 8", linear)
 			}
 		})
 	}

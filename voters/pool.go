@@ -35,8 +35,17 @@ type PoolConfig struct {
 	// doc). A value below the number of linear voters is an error.
 	MaxVoters int `json:"max_voters"`
 	// LinearRows is the size of each linear voter's bootstrap sample, at
-	// most the number of prior rows; 0 means 20000.
+	// most the number of prior rows; 0 means 20000. It also caps the rows
+	// the full linear voter is cross-validated and fitted on
+	// (LinearCVConfig.MaxRows).
 	LinearRows int `json:"linear_rows"`
+	// NoFullLinear leaves out the full linear voter: the logistic
+	// regression on every usable column with its strength chosen by
+	// cross-validation on the prior rows (FitLinearCV with its default
+	// folds and grid). The zero value includes it, as the pool's last
+	// voter, never dropped by MaxVoters, when there are at least
+	// DefaultFolds prior rows and a column it can read (see FitLinearCV).
+	NoFullLinear bool `json:"no_full_linear"`
 }
 
 // DefaultPoolConfig returns every field's default, LinearVoters set. Its
@@ -92,12 +101,23 @@ func (c PoolConfig) withDefaults() (PoolConfig, int, error) {
 		return c, 0, fmt.Errorf("voters: pool config: L2 is %v, want a finite value > 0", c.L2)
 	case c.MaxVoters < 0:
 		return c, 0, fmt.Errorf("voters: pool config: MaxVoters is %d, want >= 0", c.MaxVoters)
-	case c.MaxVoters < linear:
+	case c.MaxVoters < linear+c.full():
+		if c.full() == 1 {
+			return c, 0, fmt.Errorf("voters: pool config: MaxVoters is %d, below the %d linear voters (LinearVoters) and the full linear voter (NoFullLinear)", c.MaxVoters, linear)
+		}
 		return c, 0, fmt.Errorf("voters: pool config: MaxVoters is %d, below the %d linear voters (LinearVoters)", c.MaxVoters, linear)
 	case c.LinearRows < 0:
 		return c, 0, fmt.Errorf("voters: pool config: LinearRows is %d, want >= 0", c.LinearRows)
 	}
 	return c, linear, nil
+}
+
+// full returns the number of full linear voters the config asks for.
+func (c PoolConfig) full() int {
+	if c.NoFullLinear {
+		return 0
+	}
+	return 1
 }
 
 // ColumnSpec names a column a pool reads and its kind.
@@ -117,14 +137,35 @@ type Pool struct {
 	// Config is the configuration the pool was built with, every default
 	// resolved (LinearColumns to the width the linear voters drew).
 	Config PoolConfig
+	// OutOfBag[i], for a bootstrap linear voter i, is the bit set of the
+	// prior rows its bootstrap sample missed: bit j (word j/64, bit j%64)
+	// stands for rows[j] of the rows given to BuildPool. Its own
+	// predictions there are out of sample, up to the standardisation and
+	// one-hot levels, which come from all the prior rows (label-free). nil
+	// for the other voters; nil as a whole for a pool not made by
+	// BuildPool.
+	//
+	// Stumps have no out-of-sample rows: their thresholds are quantiles of
+	// the prior rows (label-free) and only their pair of classes and the
+	// missing-cell side are chosen with the labels, by class counts, so
+	// their error on the prior rows is only mildly optimistic.
+	OutOfBag [][]uint64
+	// OutOfFold[i], for the full linear voter i, holds for each of the rows
+	// given to BuildPool, in order, the class predicted for it by a model
+	// not fitted on it (LinearCV.OutOfFold). nil for the other voters; nil
+	// as a whole for a pool not made by BuildPool.
+	OutOfFold [][]int
 
 	bound *datasets.Table
 }
 
 // BuildPool builds a pool from the prior rows of t only: stumps on every
-// numeric and categorical column, capped by MaxVoters, then the linear
-// voters, as the package doc describes. rng draws the linear voters'
-// columns and bootstrap samples.
+// numeric and categorical column, capped by MaxVoters, then the bootstrap
+// linear voters, then the full linear voter, as the package doc describes.
+// rng draws the linear voters' columns and bootstrap samples, then the
+// full voter's folds (and its sample when there are more than LinearRows
+// prior rows); without the full voter it draws exactly what it drew before
+// the full voter existed. rows must be distinct when the full voter is in.
 func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*Pool, error) {
 	cfg, linear, err := cfg.withDefaults()
 	if err != nil {
@@ -139,7 +180,7 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 	if len(t.Classes) < 2 {
 		return nil, fmt.Errorf("voters: build pool: %d classes in %s, want at least 2", len(t.Classes), source(t))
 	}
-	if linear > 0 && rng == nil {
+	if linear+cfg.full() > 0 && rng == nil {
 		return nil, fmt.Errorf("voters: build pool: linear voters need a random source")
 	}
 	p := &Pool{Classes: slices.Clone(t.Classes), Config: cfg}
@@ -160,7 +201,8 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 			usable = append(usable, j)
 		}
 	}
-	p.Voters = cs.best(cfg.MaxVoters - linear)
+	p.Voters = cs.best(cfg.MaxVoters - linear - cfg.full())
+	p.OutOfBag = make([][]uint64, len(p.Voters), cfg.MaxVoters)
 	if linear > 0 && len(usable) > 0 {
 		width := cfg.LinearColumns
 		if width == 0 {
@@ -176,15 +218,35 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 			for i, u := range perm {
 				names[i] = t.Columns[usable[u]].Name
 			}
+			oob := make([]uint64, (len(rows)+63)/64)
+			for i := range oob {
+				oob[i] = ^uint64(0)
+			}
 			for i := range sample {
-				sample[i] = rows[rng.IntN(len(rows))]
+				j := rng.IntN(len(rows))
+				sample[i] = rows[j]
+				oob[j/64] &^= 1 << (j % 64)
+			}
+			if tail := len(rows) % 64; tail != 0 {
+				oob[len(oob)-1] &= 1<<tail - 1
 			}
 			l, err := FitLinear(t, rows, sample, names, cfg.L2)
 			if err != nil {
 				return nil, fmt.Errorf("voters: build pool: %w", err)
 			}
 			p.Voters = append(p.Voters, l)
+			p.OutOfBag = append(p.OutOfBag, oob)
 		}
+	}
+	p.OutOfFold = make([][]int, len(p.Voters), cap(p.OutOfBag))
+	if cfg.full() == 1 && len(rows) >= DefaultFolds && len(usableColumns(t, rows)) > 0 {
+		cv, err := FitLinearCV(t, rows, rows, LinearCVConfig{MaxRows: cfg.LinearRows}, rng)
+		if err != nil {
+			return nil, fmt.Errorf("voters: build pool: full linear voter: %w", err)
+		}
+		p.Voters = append(p.Voters, cv.Voter)
+		p.OutOfBag = append(p.OutOfBag, nil)
+		p.OutOfFold = append(p.OutOfFold, cv.OutOfFold)
 	}
 	if len(p.Voters) == 0 {
 		return nil, fmt.Errorf("voters: build pool: no column of %s splits the %d prior rows", source(t), len(rows))

@@ -64,7 +64,7 @@ func TestNumericThresholds(t *testing.T) {
 				label[i] = i % 2
 			}
 			tab := table([]string{"a", "b"}, label, numCol("x", tc.values...))
-			p, err := BuildPool(tab, allRows(tab), PoolConfig{Thresholds: tc.thresholds, LinearVoters: noLinear}, nil)
+			p, err := BuildPool(tab, allRows(tab), PoolConfig{Thresholds: tc.thresholds, LinearVoters: noLinear, NoFullLinear: true}, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -88,7 +88,7 @@ func TestMulticlassStumps(t *testing.T) {
 	// x = 1..6; classes 0,0,1,1,2,2. Threshold at 2 (T = 1 gives the 1/2
 	// quantile: index ceil(6/2) - 1 = 2, the value 3).
 	tab := table([]string{"a", "b", "c"}, []int{0, 0, 1, 1, 2, 2}, numCol("x", 1, 2, 3, 4, 5, 6))
-	p, err := BuildPool(tab, allRows(tab), PoolConfig{Thresholds: 1, LinearVoters: noLinear}, nil)
+	p, err := BuildPool(tab, allRows(tab), PoolConfig{Thresholds: 1, LinearVoters: noLinear, NoFullLinear: true}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -132,7 +132,7 @@ func TestMissingRouting(t *testing.T) {
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			tab := table([]string{"a", "b"}, tc.y, numCol("x", tc.x...))
-			p, err := BuildPool(tab, allRows(tab), PoolConfig{Thresholds: 3, LinearVoters: noLinear}, nil)
+			p, err := BuildPool(tab, allRows(tab), PoolConfig{Thresholds: 3, LinearVoters: noLinear, NoFullLinear: true}, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -163,7 +163,7 @@ func TestCategoryStumps(t *testing.T) {
 	tab := table([]string{"no", "yes"}, []int{0, 0, 1, 1, 1, 0, 1},
 		catCol("colour", levels, 0, 0, 1, 1, 2, datasets.MissingCode, 3))
 	prior := []int{0, 1, 2, 3, 4, 5}
-	p, err := BuildPool(tab, prior, PoolConfig{LinearVoters: noLinear}, nil)
+	p, err := BuildPool(tab, prior, PoolConfig{LinearVoters: noLinear, NoFullLinear: true}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -194,7 +194,7 @@ func TestCategoryStumps(t *testing.T) {
 
 func TestTwoLevelColumnOneLevel(t *testing.T) {
 	tab := table([]string{"no", "yes"}, []int{0, 1, 1, 0}, catCol("b", []string{"y", "n"}, 0, 1, 1, 0))
-	p, err := BuildPool(tab, allRows(tab), PoolConfig{LinearVoters: noLinear}, nil)
+	p, err := BuildPool(tab, allRows(tab), PoolConfig{LinearVoters: noLinear, NoFullLinear: true}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -205,7 +205,7 @@ func TestTwoLevelColumnOneLevel(t *testing.T) {
 
 func TestBindErrors(t *testing.T) {
 	tab := table([]string{"no", "yes"}, []int{0, 1, 1, 0}, numCol("x", 1, 2, 3, 4), catCol("c", []string{"u", "v", "w"}, 0, 1, 2, 0))
-	p, err := BuildPool(tab, allRows(tab), PoolConfig{LinearVoters: noLinear}, nil)
+	p, err := BuildPool(tab, allRows(tab), PoolConfig{LinearVoters: noLinear, NoFullLinear: true}, nil)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -25,7 +25,7 @@ func TestHouseVotesBestStump(t *testing.T) {
 		rng := rand.New(rand.NewPCG(uint64(seed), 0))
 		perm := rng.Perm(tab.Rows)
 		prior, held := perm[:tab.Rows/2], perm[tab.Rows/2:]
-		p, err := BuildPool(tab, prior, PoolConfig{LinearVoters: noLinear}, nil)
+		p, err := BuildPool(tab, prior, PoolConfig{LinearVoters: noLinear, NoFullLinear: true}, nil)
 		if err != nil {
 			t.Fatal(err)
 		}

@@ -1,0 +1,219 @@
+package voters
+
+import (
+	"math"
+	"runtime"
+	"slices"
+	"sync"
+	"sync/atomic"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/optimize"
+)
+
+// logistic is FitLinear's objective on a dense design, laid out for speed:
+// the mean cross-entropy of a softmax over the classes plus L2/2 times the
+// squared norm of the weights (intercepts free). The parameters hold, per
+// free class, its d weights then its intercept; with two classes class 0's
+// score is fixed at 0, as in FitLinear.
+//
+// The sum over rows is cut into chunks whose size depends only on the
+// problem's shape; goroutines (up to GOMAXPROCS) take chunks, each chunk
+// writes its own partial loss and gradient, and the partials are added in
+// chunk order. So the value and gradient are the same bits at any
+// GOMAXPROCS.
+type logistic struct {
+	x        []float64 // the design, row-major, d per row
+	y        []int     // class of each design row
+	idx      []int     // design rows in the sum
+	d, k     int
+	first    int // first class with a free score
+	l2       float64
+	chunk    int // rows per chunk
+	parts    []logPart
+	lastP    []float64 // the point of the cached value and gradient
+	lastF    float64
+	lastG    []float64
+	haveLast bool
+	evals    int
+}
+
+type logPart struct {
+	f      float64
+	g      []float64
+	scores []float64
+}
+
+// Chunks hold at least minChunkWork multiply-adds and there are at most
+// maxChunks of them: enough to share among goroutines, few enough that the
+// reduction stays small beside the sum.
+const (
+	minChunkWork = 1 << 16
+	maxChunks    = 256
+)
+
+func newLogistic(x []float64, y []int, idx []int, d, k int) *logistic {
+	lg := &logistic{x: x, y: y, idx: idx, d: d, k: k}
+	if k == 2 {
+		lg.first = 1
+	}
+	free := k - lg.first
+	n := len(idx)
+	lg.chunk = max(32, (minChunkWork+d*free-1)/(d*free), (n+maxChunks-1)/maxChunks)
+	chunks := max(1, (n+lg.chunk-1)/lg.chunk)
+	lg.parts = make([]logPart, chunks)
+	for i := range lg.parts {
+		lg.parts[i] = logPart{g: make([]float64, lg.params()), scores: make([]float64, k)}
+	}
+	lg.lastG = make([]float64, lg.params())
+	return lg
+}
+
+func (lg *logistic) params() int { return (lg.k - lg.first) * (lg.d + 1) }
+
+// setL2 changes the strength and drops the cached point.
+func (lg *logistic) setL2(l2 float64) {
+	lg.l2 = l2
+	lg.haveLast = false
+}
+
+// eval returns the objective at p and writes its gradient into grad. It
+// remembers the last point: gonum's line search asks for the value and the
+// gradient of one point in two calls, and one pass over the rows gives both.
+func (lg *logistic) eval(p, grad []float64) float64 {
+	if !lg.haveLast || !slices.Equal(p, lg.lastP) {
+		lg.lastF = lg.compute(p, lg.lastG)
+		lg.lastP = append(lg.lastP[:0], p...)
+		lg.haveLast = true
+	}
+	if grad != nil {
+		copy(grad, lg.lastG)
+	}
+	return lg.lastF
+}
+
+func (lg *logistic) compute(p, grad []float64) float64 {
+	lg.evals++
+	chunks := len(lg.parts)
+	workers := max(1, min(runtime.GOMAXPROCS(0), chunks))
+	if workers == 1 {
+		for c := range chunks {
+			lg.chunkSum(c, p)
+		}
+	} else {
+		var next atomic.Int64
+		var wg sync.WaitGroup
+		for range workers {
+			wg.Go(func() {
+				for {
+					c := int(next.Add(1) - 1)
+					if c >= chunks {
+						return
+					}
+					lg.chunkSum(c, p)
+				}
+			})
+		}
+		wg.Wait()
+	}
+	var f float64
+	clear(grad)
+	for c := range lg.parts {
+		f += lg.parts[c].f
+		floats.Add(grad, lg.parts[c].g)
+	}
+	n := float64(len(lg.idx))
+	f /= n
+	floats.Scale(1/n, grad)
+	stride := lg.d + 1
+	for c := 0; c < lg.k-lg.first; c++ {
+		w := p[c*stride : c*stride+lg.d]
+		g := grad[c*stride : c*stride+lg.d]
+		f += lg.l2 / 2 * floats.Dot(w, w)
+		floats.AddScaled(g, lg.l2, w)
+	}
+	return f
+}
+
+// chunkSum writes chunk c's summed loss and gradient into its part.
+func (lg *logistic) chunkSum(c int, p []float64) {
+	part := &lg.parts[c]
+	g, scores := part.g, part.scores
+	clear(g)
+	d, stride := lg.d, lg.d+1
+	var f float64
+	for _, r := range lg.idx[c*lg.chunk : min(len(lg.idx), (c+1)*lg.chunk)] {
+		xr := lg.x[r*d : (r+1)*d]
+		y := lg.y[r]
+		lz := lg.scores(p, xr, scores)
+		f += lz - scores[y]
+		for c := lg.first; c < lg.k; c++ {
+			gc := math.Exp(scores[c] - lz)
+			if c == y {
+				gc--
+			}
+			gw := g[(c-lg.first)*stride : (c-lg.first+1)*stride]
+			floats.AddScaled(gw[:d], gc, xr)
+			gw[d] += gc
+		}
+	}
+	part.f = f
+}
+
+// scores writes the class scores of features xr into scores and returns
+// their log-sum-exp.
+func (lg *logistic) scores(p, xr, scores []float64) float64 {
+	d, stride := lg.d, lg.d+1
+	mx := math.Inf(-1)
+	for c := range scores {
+		s := 0.0
+		if c >= lg.first {
+			w := p[(c-lg.first)*stride : (c-lg.first+1)*stride]
+			s = w[d] + floats.Dot(w[:d], xr)
+		}
+		scores[c] = s
+		mx = max(mx, s)
+	}
+	var z float64
+	for _, s := range scores {
+		z += math.Exp(s - mx)
+	}
+	return mx + math.Log(z)
+}
+
+// predict returns, for each design row of rows, the class of largest
+// score (ties to the lower index) and adds -ln p(true class) to *logLoss.
+func (lg *logistic) predict(p []float64, rows []int, pred []int, logLoss *float64) {
+	scores := make([]float64, lg.k)
+	for i, r := range rows {
+		lz := lg.scores(p, lg.x[r*lg.d:(r+1)*lg.d], scores)
+		*logLoss += lz - scores[lg.y[r]]
+		best := 0
+		for c, s := range scores {
+			if s > scores[best] {
+				best = c
+			}
+		}
+		pred[i] = best
+	}
+}
+
+// minimize runs L-BFGS from p0 until the gradient's largest entry is under
+// tol or after maxIter iterations, whichever comes first. It returns the
+// best point found, the iterations used and whether the gradient test was
+// met. A failed line search next to the optimum is not an error: the point
+// is kept and its gradient decides convergence.
+func (lg *logistic) minimize(p0 []float64, tol float64, maxIter int) ([]float64, int, bool) {
+	problem := optimize.Problem{
+		Func: func(p []float64) float64 { return lg.eval(p, nil) },
+		Grad: func(grad, p []float64) { lg.eval(p, grad) },
+	}
+	settings := &optimize.Settings{GradientThreshold: tol, MajorIterations: maxIter}
+	res, _ := optimize.Minimize(problem, p0, settings, &optimize.LBFGS{})
+	if res == nil || res.X == nil {
+		return slices.Clone(p0), 0, false
+	}
+	g := make([]float64, len(res.X))
+	lg.eval(res.X, g)
+	return res.X, res.Stats.MajorIterations, floats.Norm(g, math.Inf(1)) <= tol
+}
