@@ -1,6 +1,6 @@
 // Package datasets owns reading tabular data: CSV files (plain or gzip),
 // schema inference (numeric, categorical, label), missing values, the
-// column-wise Table, seeded and stratified splits of its rows, and the
+// column-wise Table, seeded random and stratified splits of its rows, and the
 // data's fingerprint for provenance.
 //
 // It knows nothing of voters or bounds; those live in packages voters and
@@ -45,7 +45,11 @@
 //
 // # Splits
 //
-// StratifiedSplit and KFold draw from math/rand/v2's PCG through our own
+// RandomSplit draws a uniform random subset of a set size, blind to
+// labels and features: the split to certify on. StratifiedSplit and KFold
+// keep each class's share in every part, which makes them unfair samples
+// of the rows (per-class rounding favours one side); they suit other uses.
+// All three draw from math/rand/v2's PCG through our own
 // bounded draw and shuffle (see rowGen in split.go), so a seed gives the
 // same rows on every platform and Go version; split_test.go pins the
 // sequence against an independent Python rendering.

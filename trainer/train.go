@@ -86,7 +86,10 @@ func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, err
 	p := &Prepared{cfg: cfg, t: t}
 	p.stage("split")
 	var err error
-	p.priorRows, p.certRows, err = datasets.StratifiedSplit(t.Label, len(t.Classes), cfg.PriorFraction, cfg.Seed)
+	// A uniform random subset, blind to labels and features: the certify
+	// rows must be a fair sample (FIELD-GUIDE.md, rule 7), which a split
+	// stratified by label with per-class rounding is not.
+	p.priorRows, p.certRows, err = datasets.RandomSplit(t.Rows, cfg.PriorFraction, cfg.Seed)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
