@@ -36,8 +36,10 @@
 //     categorical, numbers becoming levels in their shortest round-trip
 //     form ("1.50" and "1.5" are one level). Force the column categorical
 //     to keep the text of every cell as it is.
-//   - Levels are coded in order of first appearance; class names are
-//     sorted and the label holds indices into them.
+//   - Levels are sorted by their text (byte order) and coded in that
+//     order, so no code, and nothing a code decides (ties between levels,
+//     the order of one-hot inputs), depends on the order of rows; class
+//     names are sorted the same way and the label holds indices into them.
 //   - A record, quoted line breaks included, may be at most 1 MiB.
 //
 // Every error from reading is a *ParseError naming the file, line, column

@@ -482,6 +482,7 @@ func (m *merger) finish(opts ReadOptions) (*Table, *ParseError) {
 		case modeNum:
 			t.Columns = append(t.Columns, Column{Name: name, Kind: Numeric, Num: c.nums, Missing: c.missing})
 		case modeCat:
+			sortLevels(c.levels, c.codes)
 			t.Columns = append(t.Columns, Column{Name: name, Kind: Categorical, Codes: c.codes, Levels: c.levels, Missing: c.missing})
 		}
 		c.nums, c.codes = nil, nil
@@ -518,8 +519,8 @@ func (m *merger) label(t *Table, c *colState, name string, oneClass bool) *Parse
 
 // mixed builds a categorical column from an inferred column holding both
 // numbers and words. Numbers become levels in their shortest round-trip
-// form ("1.50" and "1.5" are one level), and the levels are renumbered in
-// order of first appearance.
+// form ("1.50" and "1.5" are one level), and the levels are sorted by
+// their text.
 func (m *merger) mixed(c *colState, name string) Column {
 	col := Column{Name: name, Kind: Categorical, Codes: make([]uint32, len(c.nums)), Missing: c.missing}
 	dict := map[string]uint32{}
@@ -549,5 +550,33 @@ func (m *merger) mixed(c *colState, name string) Column {
 			col.Codes[i] = code(strconv.FormatFloat(v, 'g', -1, 64))
 		}
 	}
+	sortLevels(col.Levels, col.Codes)
 	return col
+}
+
+// sortLevels sorts levels by their text (byte order) and recodes codes to
+// match. Codes in order of first appearance would let the order of rows,
+// certify rows included, decide ties between levels and the order of
+// one-hot inputs; sorted, they depend on the set of levels alone.
+func sortLevels(levels []string, codes []uint32) {
+	if slices.IsSorted(levels) {
+		return
+	}
+	order := make([]uint32, len(levels)) // order[new code] = old code
+	for i := range order {
+		order[i] = uint32(i)
+	}
+	slices.SortFunc(order, func(a, b uint32) int { return strings.Compare(levels[a], levels[b]) })
+	recode := make([]uint32, len(levels))
+	sorted := make([]string, len(levels))
+	for nw, old := range order {
+		recode[old] = uint32(nw)
+		sorted[nw] = levels[old]
+	}
+	copy(levels, sorted)
+	for i, c := range codes {
+		if c != MissingCode {
+			codes[i] = recode[c]
+		}
+	}
 }

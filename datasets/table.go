@@ -35,8 +35,9 @@ type Column struct {
 	// Codes holds the codes of a Categorical column (MissingCode where
 	// missing); nil otherwise. Code c stands for Levels[c].
 	Codes []uint32
-	// Levels is the dictionary of a Categorical column, in order of first
-	// appearance in the file.
+	// Levels is the dictionary of a Categorical column, sorted by the
+	// levels' text (byte order), so that no code depends on the order of
+	// rows.
 	Levels []string
 	// Missing counts the missing cells.
 	Missing int
