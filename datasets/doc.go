@@ -36,6 +36,12 @@
 //     categorical, numbers becoming levels in their shortest round-trip
 //     form ("1.50" and "1.5" are one level). Force the column categorical
 //     to keep the text of every cell as it is.
+//   - ReadOptions.DeferKinds skips the stray-word failure (such a column is
+//     read categorical), and Table.InferKindsFrom decides the kinds again
+//     by the same rule on a subset of the rows: a column whose cells there
+//     are all numbers becomes numeric, its other cells missing, and the
+//     change is reported. A trainer decides kinds on its prior rows so
+//     that the rows it certifies on shape none.
 //   - Levels are sorted by their text (byte order) and coded in that
 //     order, so no code, and nothing a code decides (ties between levels,
 //     the order of one-hot inputs), depends on the order of rows; class

@@ -47,6 +47,14 @@ type ReadOptions struct {
 	// *ParseError (ErrNotNumber). Columns with a forced kind are kept even
 	// when every cell is missing.
 	Kinds map[string]Kind
+	// DeferKinds reads an inferred column holding a word or a non-finite
+	// number as categorical (numbers as their shortest round-trip text),
+	// whatever its share of numbers, instead of failing on a stray word:
+	// its kind is left for Table.InferKindsFrom to decide on the rows a
+	// caller may look at (a trainer's prior rows), so that the other rows
+	// shape no kind. Without it, a column whose non-missing cells are over
+	// 90% numbers but not all is an error (ErrStrayWord, ErrNotFinite).
+	DeferKinds bool
 	// DropMissingLabel drops rows whose label is missing instead of failing;
 	// Table.DroppedRows counts them.
 	DropMissingLabel bool
@@ -465,12 +473,12 @@ func (m *merger) finish(opts ReadOptions) (*Table, *ParseError) {
 				continue
 			}
 			if c.words+c.nonfinite == 0 {
-				t.Columns = append(t.Columns, Column{Name: name, Kind: Numeric, Num: c.nums, Missing: c.missing})
+				t.Columns = append(t.Columns, Column{Name: name, Kind: Numeric, Num: c.nums, Missing: c.missing, Inferred: true})
 				continue
 			}
 			nonMissing := c.numbers + c.words + c.nonfinite
 			share := float64(c.numbers+c.nonfinite) / float64(nonMissing)
-			if share > strayShare {
+			if share > strayShare && !opts.DeferKinds {
 				if c.nonfinite > 0 && (c.words == 0 || c.firstNonFinite.line <= c.firstWord.line) {
 					return nil, colErr(c.firstNonFinite, fmt.Errorf("%w: the column is numeric; if the cell means missing, add it to the missing tokens", ErrNotFinite))
 				}
@@ -522,7 +530,7 @@ func (m *merger) label(t *Table, c *colState, name string, oneClass bool) *Parse
 // form ("1.50" and "1.5" are one level), and the levels are sorted by
 // their text.
 func (m *merger) mixed(c *colState, name string) Column {
-	col := Column{Name: name, Kind: Categorical, Codes: make([]uint32, len(c.nums)), Missing: c.missing}
+	col := Column{Name: name, Kind: Categorical, Codes: make([]uint32, len(c.nums)), Missing: c.missing, Inferred: true}
 	dict := map[string]uint32{}
 	wordCode := make([]uint32, len(c.levels))
 	for i := range wordCode {

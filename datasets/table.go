@@ -41,6 +41,10 @@ type Column struct {
 	Levels []string
 	// Missing counts the missing cells.
 	Missing int
+	// Inferred says the reader chose the kind from the cells: no
+	// ReadOptions.Categorical or Kinds fixed it. Table.InferKindsFrom
+	// decides such a column's kind again from a subset of the rows.
+	Inferred bool
 }
 
 // Len returns the number of rows in the column.

@@ -66,6 +66,9 @@ type Config struct {
 	MaxIterations int
 	// Progress, if not nil, is told when each stage starts.
 	Progress func(stage string)
+	// Warn, if not nil, receives warnings: each column whose kind the
+	// prior rows changed (see Prepare).
+	Warn func(msg string)
 }
 
 func (c Config) withDefaults() Config {

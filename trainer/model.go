@@ -64,6 +64,9 @@ type Provenance struct {
 	PriorFraction float64              `json:"prior_fraction"`
 	Pool          voters.PoolConfig    `json:"pool"`
 	Optimizer     OptimizerResult      `json:"optimizer"`
+	// KindChanges lists the columns read as categorical that the prior
+	// rows made numeric, with the cells that became missing.
+	KindChanges []datasets.KindChange `json:"kind_changes,omitempty"`
 	// SweepSettings, when not zero, is the number K of settings of the sweep
 	// this model came from. SweepSelected says it is the selection: its
 	// certificate is then computed at delta / K (each family at delta /

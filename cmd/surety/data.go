@@ -84,7 +84,7 @@ func (d *dataFlags) prepare(e *env, base datasets.ReadOptions) (datasets.ReadOpt
 	if d.path == "" {
 		return base, usagef("--data is required")
 	}
-	o, err := d.options(base, func(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) })
+	o, err := d.options(base, e.warn)
 	if err != nil {
 		return base, err
 	}

@@ -82,7 +82,7 @@ func (o *demoOptions) run(ctx context.Context, args []string, e *env) error {
 	if err := trainer.WriteFileAtomic(dataPath, buf.Bytes()); err != nil {
 		return err
 	}
-	t, err := datasets.ReadFile(dataPath, datasets.ReadOptions{Label: demodata.Label})
+	t, err := datasets.ReadFile(dataPath, datasets.ReadOptions{Label: demodata.Label, DeferKinds: true})
 	if err != nil {
 		return err
 	}

@@ -71,7 +71,7 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
-	t, err := o.train.data.read(e, datasets.ReadOptions{})
+	t, err := o.train.data.read(e, datasets.ReadOptions{DeferKinds: true})
 	if err != nil {
 		return err
 	}
@@ -93,7 +93,7 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 	settings := trainer.Grid(objectives, o.tradeoffs, priors)
 
 	show, stop := e.stages()
-	cfg.Progress = show
+	cfg.Progress, cfg.Warn = show, e.warn
 	res, err := trainer.Sweep(ctx, t, cfg, settings)
 	stop()
 	if err != nil {
