@@ -1,6 +1,6 @@
 // Package datasets owns reading tabular data: CSV files (plain or gzip),
 // schema inference (numeric, categorical, label), missing values, the
-// column-wise Table, seeded and stratified splits of its rows, and the
+// column-wise Table, seeded random and stratified splits of its rows, and the
 // data's fingerprint for provenance.
 //
 // It knows nothing of voters or bounds; those live in packages voters and
@@ -36,8 +36,16 @@
 //     categorical, numbers becoming levels in their shortest round-trip
 //     form ("1.50" and "1.5" are one level). Force the column categorical
 //     to keep the text of every cell as it is.
-//   - Levels are coded in order of first appearance; class names are
-//     sorted and the label holds indices into them.
+//   - ReadOptions.DeferKinds skips the stray-word failure (such a column is
+//     read categorical), and Table.InferKindsFrom decides the kinds again
+//     by the same rule on a subset of the rows: a column whose cells there
+//     are all numbers becomes numeric, its other cells missing, and the
+//     change is reported. A trainer decides kinds on its prior rows so
+//     that the rows it certifies on shape none.
+//   - Levels are sorted by their text (byte order) and coded in that
+//     order, so no code, and nothing a code decides (ties between levels,
+//     the order of one-hot inputs), depends on the order of rows; class
+//     names are sorted the same way and the label holds indices into them.
 //   - A record, quoted line breaks included, may be at most 1 MiB.
 //
 // Every error from reading is a *ParseError naming the file, line, column
@@ -45,7 +53,11 @@
 //
 // # Splits
 //
-// StratifiedSplit and KFold draw from math/rand/v2's PCG through our own
+// RandomSplit draws a uniform random subset of a set size, blind to
+// labels and features: the split to certify on. StratifiedSplit and KFold
+// keep each class's share in every part, which makes them unfair samples
+// of the rows (per-class rounding favours one side); they suit other uses.
+// All three draw from math/rand/v2's PCG through our own
 // bounded draw and shuffle (see rowGen in split.go), so a seed gives the
 // same rows on every platform and Go version; split_test.go pins the
 // sequence against an independent Python rendering.

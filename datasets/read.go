@@ -47,6 +47,14 @@ type ReadOptions struct {
 	// *ParseError (ErrNotNumber). Columns with a forced kind are kept even
 	// when every cell is missing.
 	Kinds map[string]Kind
+	// DeferKinds reads an inferred column holding a word or a non-finite
+	// number as categorical (numbers as their shortest round-trip text),
+	// whatever its share of numbers, instead of failing on a stray word:
+	// its kind is left for Table.InferKindsFrom to decide on the rows a
+	// caller may look at (a trainer's prior rows), so that the other rows
+	// shape no kind. Without it, a column whose non-missing cells are over
+	// 90% numbers but not all is an error (ErrStrayWord, ErrNotFinite).
+	DeferKinds bool
 	// DropMissingLabel drops rows whose label is missing instead of failing;
 	// Table.DroppedRows counts them.
 	DropMissingLabel bool
@@ -465,12 +473,12 @@ func (m *merger) finish(opts ReadOptions) (*Table, *ParseError) {
 				continue
 			}
 			if c.words+c.nonfinite == 0 {
-				t.Columns = append(t.Columns, Column{Name: name, Kind: Numeric, Num: c.nums, Missing: c.missing})
+				t.Columns = append(t.Columns, Column{Name: name, Kind: Numeric, Num: c.nums, Missing: c.missing, Inferred: true})
 				continue
 			}
 			nonMissing := c.numbers + c.words + c.nonfinite
 			share := float64(c.numbers+c.nonfinite) / float64(nonMissing)
-			if share > strayShare {
+			if share > strayShare && !opts.DeferKinds {
 				if c.nonfinite > 0 && (c.words == 0 || c.firstNonFinite.line <= c.firstWord.line) {
 					return nil, colErr(c.firstNonFinite, fmt.Errorf("%w: the column is numeric; if the cell means missing, add it to the missing tokens", ErrNotFinite))
 				}
@@ -482,6 +490,7 @@ func (m *merger) finish(opts ReadOptions) (*Table, *ParseError) {
 		case modeNum:
 			t.Columns = append(t.Columns, Column{Name: name, Kind: Numeric, Num: c.nums, Missing: c.missing})
 		case modeCat:
+			sortLevels(c.levels, c.codes)
 			t.Columns = append(t.Columns, Column{Name: name, Kind: Categorical, Codes: c.codes, Levels: c.levels, Missing: c.missing})
 		}
 		c.nums, c.codes = nil, nil
@@ -518,10 +527,10 @@ func (m *merger) label(t *Table, c *colState, name string, oneClass bool) *Parse
 
 // mixed builds a categorical column from an inferred column holding both
 // numbers and words. Numbers become levels in their shortest round-trip
-// form ("1.50" and "1.5" are one level), and the levels are renumbered in
-// order of first appearance.
+// form ("1.50" and "1.5" are one level), and the levels are sorted by
+// their text.
 func (m *merger) mixed(c *colState, name string) Column {
-	col := Column{Name: name, Kind: Categorical, Codes: make([]uint32, len(c.nums)), Missing: c.missing}
+	col := Column{Name: name, Kind: Categorical, Codes: make([]uint32, len(c.nums)), Missing: c.missing, Inferred: true}
 	dict := map[string]uint32{}
 	wordCode := make([]uint32, len(c.levels))
 	for i := range wordCode {
@@ -549,5 +558,33 @@ func (m *merger) mixed(c *colState, name string) Column {
 			col.Codes[i] = code(strconv.FormatFloat(v, 'g', -1, 64))
 		}
 	}
+	sortLevels(col.Levels, col.Codes)
 	return col
+}
+
+// sortLevels sorts levels by their text (byte order) and recodes codes to
+// match. Codes in order of first appearance would let the order of rows,
+// certify rows included, decide ties between levels and the order of
+// one-hot inputs; sorted, they depend on the set of levels alone.
+func sortLevels(levels []string, codes []uint32) {
+	if slices.IsSorted(levels) {
+		return
+	}
+	order := make([]uint32, len(levels)) // order[new code] = old code
+	for i := range order {
+		order[i] = uint32(i)
+	}
+	slices.SortFunc(order, func(a, b uint32) int { return strings.Compare(levels[a], levels[b]) })
+	recode := make([]uint32, len(levels))
+	sorted := make([]string, len(levels))
+	for nw, old := range order {
+		recode[old] = uint32(nw)
+		sorted[nw] = levels[old]
+	}
+	copy(levels, sorted)
+	for i, c := range codes {
+		if c != MissingCode {
+			codes[i] = recode[c]
+		}
+	}
 }

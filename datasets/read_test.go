@@ -83,8 +83,8 @@ func TestReadMixedFixture(t *testing.T) {
 				t.Errorf("age: %+v", age)
 			}
 			city := tab.Columns[tab.Column("city")]
-			if city.Kind != Categorical || !slices.Equal(city.Levels, []string{"Lyon", "Paris, 11e", "Nice", `Quote "Q"`}) ||
-				!slices.Equal(city.Codes, []uint32{0, 1, 0, 2, 3, 0}) {
+			if city.Kind != Categorical || !slices.Equal(city.Levels, []string{"Lyon", "Nice", "Paris, 11e", `Quote "Q"`}) ||
+				!slices.Equal(city.Codes, []uint32{0, 2, 0, 1, 3, 0}) {
 				t.Errorf("city: %+v", city)
 			}
 			income := tab.Columns[tab.Column("income")]
@@ -184,7 +184,7 @@ func TestReadOptions(t *testing.T) {
 			}
 		}},
 		{"quoted line break", "note,label\n\"two\nlines\",a\nplain,b\n", ReadOptions{}, func(t *testing.T, tab *Table) {
-			if tab.Rows != 2 || tab.Columns[0].Levels[0] != "two\nlines" {
+			if tab.Rows != 2 || tab.Columns[0].Levels[1] != "two\nlines" {
 				t.Errorf("%+v", tab.Columns)
 			}
 		}},
@@ -195,7 +195,7 @@ func TestReadOptions(t *testing.T) {
 		}},
 		{"mostly words is categorical, numbers canonical", "x,label\nred,a\n1.50,b\nblue,a\n1.5,b\ngreen,a\n", ReadOptions{}, func(t *testing.T, tab *Table) {
 			c := tab.Columns[0]
-			if c.Kind != Categorical || !slices.Equal(c.Levels, []string{"red", "1.5", "blue", "green"}) || !slices.Equal(c.Codes, []uint32{0, 1, 2, 1, 3}) {
+			if c.Kind != Categorical || !slices.Equal(c.Levels, []string{"1.5", "blue", "green", "red"}) || !slices.Equal(c.Codes, []uint32{3, 0, 1, 0, 2}) {
 				t.Errorf("%+v", c)
 			}
 		}},
@@ -457,5 +457,49 @@ func TestReadOneClass(t *testing.T) {
 	}
 	if _, err := Read(strings.NewReader("x,label\n"), "none.csv", ReadOptions{OneClass: true}); err == nil {
 		t.Error("no rows and no class: no error")
+	}
+}
+
+// Levels are sorted by their text, so reading the same rows in another
+// order gives the same level list and every row the same level: nothing
+// downstream (ties between levels, one-hot order) sees the row order.
+func TestLevelsIgnoreRowOrder(t *testing.T) {
+	cases := []struct {
+		name string
+		rows []string // "x,label" records
+		opts ReadOptions
+	}{
+		{"words", []string{"pear,a", "fig,b", "apple,a", ",b", "fig,a"}, ReadOptions{}},
+		{"words and numbers", []string{"red,a", "10,b", "blue,a", "9.0,b", "green,a"}, ReadOptions{}},
+		{"forced categorical", []string{"3,a", "1,b", "20,a", "1,b"}, ReadOptions{Categorical: []string{"x"}}},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			read := func(rows []string) (*Table, []string) {
+				tab, err := Read(strings.NewReader("x,label\n"+strings.Join(rows, "\n")+"\n"), "levels.csv", tc.opts)
+				if err != nil {
+					t.Fatal(err)
+				}
+				c := tab.Columns[0]
+				cells := make([]string, len(c.Codes))
+				for i, code := range c.Codes {
+					if code != MissingCode {
+						cells[i] = c.Levels[code]
+					}
+				}
+				return tab, cells
+			}
+			fwd, fwdCells := read(tc.rows)
+			rev := slices.Clone(tc.rows)
+			slices.Reverse(rev)
+			back, backCells := read(rev)
+			slices.Reverse(backCells)
+			if !slices.IsSorted(fwd.Columns[0].Levels) || !slices.Equal(fwd.Columns[0].Levels, back.Columns[0].Levels) {
+				t.Errorf("levels %q read forwards, %q backwards, want both sorted and equal", fwd.Columns[0].Levels, back.Columns[0].Levels)
+			}
+			if !slices.Equal(fwdCells, backCells) {
+				t.Errorf("cells %q forwards, %q backwards", fwdCells, backCells)
+			}
+		})
 	}
 }

@@ -44,7 +44,7 @@ func ScanFile(path string, opts ReadOptions, chunkRows int, fn func(chunk *Table
 //
 // Each chunk is a Table over the same columns, in file order, with the
 // same kinds. A categorical column's Levels hold the levels of that chunk,
-// in order of first appearance in it, so the same level may have another
+// sorted by their text as in Read, so the same level may have another
 // code in another chunk: bind by level name. Classes hold the classes
 // present in the chunk, sorted, and Label indexes them; Scan does not ask
 // for two classes. Source is name; Fingerprint and DroppedRows are left
@@ -334,6 +334,7 @@ func (s *scanner) emit() error {
 		case modeNum:
 			t.Columns = append(t.Columns, Column{Name: name, Kind: Numeric, Num: c.nums, Missing: c.missing})
 		case modeCat:
+			sortLevels(c.levels, c.codes)
 			t.Columns = append(t.Columns, Column{Name: name, Kind: Categorical, Codes: c.codes, Levels: c.levels, Missing: c.missing})
 		case modeLabel:
 			t.LabelName = name

@@ -23,7 +23,7 @@ func ExampleScan() {
 	fmt.Println(fp.Rows, "rows,", fp.Columns, "columns in the file")
 	// Output:
 	// rows 0-1: ages [34 NaN], city levels ["Lyon" "Nice"]
-	// rows 2-3: ages [51 28], city levels ["Lyon" "Brest"]
+	// rows 2-3: ages [51 28], city levels ["Brest" "Lyon"]
 	// rows 4-4: ages [40], city levels ["Nice"]
 	// 5 rows, 3 columns in the file
 }

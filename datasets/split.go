@@ -61,12 +61,46 @@ func byClass(labels []int, numClasses int) ([][]int, error) {
 	return rows, nil
 }
 
+// RandomSplit splits the row indices 0..n-1 in two: round(fraction*n)
+// rows (half away from zero), a uniform random subset of them, go to first
+// and the rest to second. The rows are shuffled by one generator seeded by
+// seed (see rowGen) and first takes the head of the shuffle, so the split
+// depends only on (n, fraction, seed): never on labels, features or the
+// order of anything but the row count. That makes the second part a fair
+// sample of the rows, which a certificate computed on it needs; a split
+// stratified by label with per-class rounding is not one (a class seen
+// once always lands on one side). Both parts are sorted. fraction must lie
+// strictly between 0 and 1.
+func RandomSplit(n int, fraction float64, seed uint64) (first, second []int, err error) {
+	if !(fraction > 0 && fraction < 1) {
+		return nil, nil, fmt.Errorf("%w: fraction %v, want 0 < fraction < 1", ErrSplit, fraction)
+	}
+	if n < 0 {
+		return nil, nil, fmt.Errorf("%w: %d rows", ErrSplit, n)
+	}
+	rows := make([]int, n)
+	for i := range rows {
+		rows[i] = i
+	}
+	newRowGen(seed).shuffle(rows)
+	k := int(math.Round(fraction * float64(n)))
+	first, second = rows[:k:k], rows[k:]
+	slices.Sort(first)
+	slices.Sort(second)
+	return first, second, nil
+}
+
 // StratifiedSplit splits the row indices 0..len(labels)-1 in two: of the
 // n_c rows of each class c, round(fraction*n_c) (half away from zero) go to
 // first, drawn uniformly at random, and the rest to second. Classes are
 // shuffled in index order from one generator seeded by seed (see rowGen),
 // so the split depends only on (labels, numClasses, fraction, seed). Both
 // parts are sorted. fraction must lie strictly between 0 and 1.
+//
+// The parts are not fair samples of the rows: at fraction 0.5 a class of
+// odd size gives its extra row to first, so a class seen once is never in
+// second. Certify on a RandomSplit; this one suits a prior part that must
+// hold every class.
 func StratifiedSplit(labels []int, numClasses int, fraction float64, seed uint64) (first, second []int, err error) {
 	if !(fraction > 0 && fraction < 1) {
 		return nil, nil, fmt.Errorf("%w: fraction %v, want 0 < fraction < 1", ErrSplit, fraction)

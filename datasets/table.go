@@ -60,11 +60,16 @@ type Column struct {
 	// Codes holds the codes of a Categorical column (MissingCode where
 	// missing); nil otherwise. Code c stands for Levels[c].
 	Codes []uint32
-	// Levels is the dictionary of a Categorical column, in order of first
-	// appearance in the file.
+	// Levels is the dictionary of a Categorical column, sorted by the
+	// levels' text (byte order), so that no code depends on the order of
+	// rows.
 	Levels []string
 	// Missing counts the missing cells.
 	Missing int
+	// Inferred says the reader chose the kind from the cells: no
+	// ReadOptions.Categorical or Kinds fixed it. Table.InferKindsFrom
+	// decides such a column's kind again from a subset of the rows.
+	Inferred bool
 }
 
 // Len returns the number of rows in the column.

@@ -1,13 +1,17 @@
 // Package trainer owns the pipeline that turns a table into a certified
-// vote: the seeded, stratified split into prior rows and certify rows, the
+// vote: the seeded split into prior rows and certify rows, the
 // pool and the prior built on the prior rows only, the statistics counted on
 // the certify rows, the optimisation of the posterior, the certificate with
 // its delta ledger, and the model file.
 //
 // # Honest accounting
 //
-// Every voter (thresholds, linear weights, scaling, categories) and the
-// prior are fixed from the prior rows before a certify row is looked at.
+// The certify rows are a uniform random subset of the rows whose size
+// depends only on the row count and Config.PriorFraction
+// (datasets.RandomSplit): blind to labels and features, so they are a fair
+// sample, rare classes included. Every voter (thresholds, linear weights,
+// scaling, categories) and the prior are fixed from the prior rows before
+// a certify row is looked at.
 // The posterior may depend on the certify rows: the kl-based bounds hold for
 // every posterior at once. The certificate is the smallest of several
 // families (first order, tandem, C-bound for two classes, Chebyshev-Cantelli,

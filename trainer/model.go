@@ -60,6 +60,9 @@ type Provenance struct {
 	// Pool is the pool's configuration with every default resolved.
 	Pool      voters.PoolConfig `json:"pool"`
 	Optimizer OptimizerResult   `json:"optimizer"`
+	// KindChanges lists the columns read as categorical that the prior
+	// rows made numeric, with the cells that became missing.
+	KindChanges []datasets.KindChange `json:"kind_changes,omitempty"`
 	// SweepSettings, when not zero, is the number K of settings of the sweep
 	// this model came from. SweepSelected says it is the selection: its
 	// certificate is then computed at delta / K (each family at delta /

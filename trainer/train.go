@@ -61,6 +61,7 @@ type Prepared struct {
 	t                   *datasets.Table
 	priorRows, certRows []int
 	pool                *voters.Pool
+	kindChanges         []datasets.KindChange
 	priorRates          rates
 	certRates           rates
 	// holdFits keeps the prior-rows fits by objective and trade-off: the
@@ -71,8 +72,13 @@ type Prepared struct {
 	boosted *shipVote
 }
 
-// Prepare splits t, builds the pool on the prior rows and counts the
-// statistics of both parts. cfg's Seed, PriorFraction, Pool, Delta,
+// Prepare splits t (datasets.RandomSplit: a uniform random subset of the
+// rows, blind to labels and features), decides the kinds of t's inferred
+// columns from the prior rows (datasets.Table.InferKindsFrom; each change
+// goes to cfg.Warn and the model's provenance), builds the pool on the
+// prior rows and counts the statistics of both parts. Read t with
+// datasets.ReadOptions.DeferKinds so that a stray word in the certify rows
+// does not fail the read; t itself is not changed. cfg's Seed, PriorFraction, Pool, Delta,
 // PriorMix, MaxIterations and Progress hold for every later Fit; its
 // setting is checked here so that bad settings fail before the work.
 func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, error) {
@@ -89,13 +95,28 @@ func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, err
 	p := &Prepared{cfg: cfg, t: t}
 	p.stage("split")
 	var err error
-	p.priorRows, p.certRows, err = datasets.StratifiedSplit(t.Label, len(t.Classes), cfg.PriorFraction, cfg.Seed)
+	// A uniform random subset, blind to labels and features: the certify
+	// rows must be a fair sample (FIELD-GUIDE.md, rule 7), which a split
+	// stratified by label with per-class rounding is not.
+	p.priorRows, p.certRows, err = datasets.RandomSplit(t.Rows, cfg.PriorFraction, cfg.Seed)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
 	if len(p.priorRows) < MinPartRows || len(p.certRows) < MinPartRows {
 		return nil, fmt.Errorf("trainer: %s: too few rows: %d rows split into %d prior and %d certify rows, and each part needs at least %d",
 			t.Source, t.Rows, len(p.priorRows), len(p.certRows), MinPartRows)
+	}
+	// Column kinds, like every other part of the pool, come from the prior
+	// rows: the split needs only the row count, so it comes first.
+	var kinds datasets.KindReport
+	if t, kinds, err = t.InferKindsFrom(p.priorRows); err != nil {
+		return nil, fmt.Errorf("trainer: column kinds from the prior rows: %w", err)
+	}
+	p.t, p.kindChanges = t, kinds.Changes
+	if cfg.Warn != nil {
+		for _, w := range kinds.Warnings() {
+			cfg.Warn("trainer: " + w)
+		}
 	}
 	if err := ctx.Err(); err != nil {
 		return nil, err
@@ -313,6 +334,7 @@ func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
 			PriorFraction: cfg.PriorFraction,
 			Pool:          pool.Config,
 			Optimizer:     opt,
+			KindChanges:   p.kindChanges,
 		},
 	}
 	f.ship(cert)

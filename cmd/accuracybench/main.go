@@ -24,6 +24,7 @@ func main() {
 	sets := flag.String("sets", "", "comma-separated set names (default: all of "+benchsets.Names()+")")
 	seed := flag.Uint64("seed", trainer.DefaultSeed, "the trainer's seed")
 	root := flag.String("root", ".", "the module's root folder (testdata/bench lives there)")
+	fraction := flag.Float64("prior-fraction", 0, "the trainer's prior fraction (default: the trainer's)")
 	flag.Parse()
 	base, err := benchsets.ReadBaselines(*root)
 	if err != nil {
@@ -40,7 +41,7 @@ func main() {
 		if *sets != "" && !slices.Contains(want, s.Name) {
 			continue
 		}
-		r, err := benchsets.Run(context.Background(), s, *root, trainer.Config{Seed: *seed})
+		r, err := benchsets.Run(context.Background(), s, *root, trainer.Config{Seed: *seed, PriorFraction: *fraction})
 		if err != nil {
 			fmt.Fprintln(os.Stderr, "accuracybench:", err)
 			os.Exit(1)

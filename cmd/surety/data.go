@@ -87,7 +87,7 @@ func (d *dataFlags) prepare(e *env, base datasets.ReadOptions) (datasets.ReadOpt
 		}
 		return base, usagef("--%s is required", name)
 	}
-	o := d.options(base, func(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) })
+	o := d.options(base, e.warn)
 	if d.path != "-" {
 		fi, err := os.Stat(d.path)
 		if err != nil {

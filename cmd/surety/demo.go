@@ -69,7 +69,7 @@ func (o *demoOptions) run(ctx context.Context, args []string, e *env) error {
 	if err := atomicfile.Write(dataPath, buf.Bytes()); err != nil {
 		return err
 	}
-	t, err := datasets.ReadFile(dataPath, datasets.ReadOptions{Label: demodata.Label})
+	t, err := datasets.ReadFile(dataPath, datasets.ReadOptions{Label: demodata.Label, DeferKinds: true})
 	if err != nil {
 		return err
 	}

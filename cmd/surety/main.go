@@ -37,6 +37,9 @@ type env struct {
 	progress bool
 }
 
+// warn writes a warning to stderr.
+func (e *env) warn(msg string) { fmt.Fprintf(e.stderr, "warning: %s\n", msg) }
+
 type registration struct {
 	name, usage, summary string
 	make                 func() command

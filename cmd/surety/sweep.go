@@ -41,7 +41,7 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 		return usagef("unexpected argument %q", args[0])
 	}
 	cfg := o.train.config(nil)
-	t, err := o.data.read(e, datasets.ReadOptions{})
+	t, err := o.data.read(e, datasets.ReadOptions{DeferKinds: true})
 	if err != nil {
 		return err
 	}
@@ -63,7 +63,7 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 	settings := trainer.Grid(objectives, o.grid.tradeoffs, priors)
 
 	show, stop := e.stages()
-	cfg.Progress = show
+	cfg.Progress, cfg.Warn = show, e.warn
 	res, err := trainer.Sweep(ctx, t, cfg, settings)
 	stop()
 	if err != nil {

@@ -40,7 +40,7 @@ func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 		return usagef("unexpected argument %q", args[0])
 	}
 	cfg := o.train.config(&o.fit)
-	t, err := o.data.read(e, datasets.ReadOptions{})
+	t, err := o.data.read(e, datasets.ReadOptions{DeferKinds: true})
 	if err != nil {
 		return err
 	}
@@ -60,7 +60,7 @@ func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 
 func trainWithProgress(ctx context.Context, e *env, t *datasets.Table, cfg trainer.Config) (*trainer.Model, error) {
 	show, stop := e.stages()
-	cfg.Progress = show
+	cfg.Progress, cfg.Warn = show, e.warn
 	m, err := trainer.Train(ctx, t, cfg)
 	stop()
 	if err == nil && !m.Provenance.Optimizer.Converged {
@@ -90,6 +90,9 @@ type dataJSON struct {
 	Label       string               `json:"label"`
 	Classes     []string             `json:"classes"`
 	Fingerprint datasets.Fingerprint `json:"fingerprint"`
+	// KindChanges lists the columns read as categorical that the prior
+	// rows made numeric.
+	KindChanges []datasets.KindChange `json:"kind_changes,omitempty"`
 }
 
 type splitJSON struct {
@@ -104,7 +107,7 @@ func trainReport(t *datasets.Table, m *trainer.Model, path string) trainJSON {
 		Statement:   m.Certificate.Sentence(),
 		Empirical:   m.Empirical,
 		Data: dataJSON{Source: t.Source, Rows: t.Rows, Columns: len(t.Columns), Label: t.LabelName,
-			Classes: t.Classes, Fingerprint: t.Fingerprint},
+			Classes: t.Classes, Fingerprint: t.Fingerprint, KindChanges: m.Provenance.KindChanges},
 		Split:     splitJSON{Seed: m.Provenance.Seed, PriorRows: m.Provenance.PriorRows, CertifyRows: m.Provenance.CertifyRows},
 		PoolSize:  m.Provenance.PoolSize,
 		Optimizer: m.Provenance.Optimizer,
@@ -131,6 +134,8 @@ func printTrain(w io.Writer, t *datasets.Table, m *trainer.Model, path string) {
 			cat++
 		}
 	}
+	// The kinds the prior rows decided (the table holds those of the read).
+	num, cat = num+len(m.Provenance.KindChanges), cat-len(m.Provenance.KindChanges)
 	p := m.Provenance
 	fmt.Fprintf(w, "data       %s: %d rows, %d feature columns (%d numeric, %d categorical), label %q with %d classes\n",
 		t.Source, t.Rows, len(t.Columns), num, cat, t.LabelName, len(t.Classes))

@@ -4,12 +4,15 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
+	"surety/datasets"
 	"surety/datasets/demodata"
+	"surety/trainer"
 )
 
 // runSurety runs the command line in-process.
@@ -205,6 +208,48 @@ func TestShowModelArgument(t *testing.T) {
 		t.Run(c.name, func(t *testing.T) {
 			if _, errs, code := runSurety(t, "", c.args...); code != c.code {
 				t.Errorf("exit %d, want %d: %s", code, c.code, errs)
+			}
+		})
+	}
+}
+
+// A stray word decides nothing when it sits in a certify row: the column's
+// kind comes from the prior rows, the word reads as missing and a warning
+// says so. In a prior row it fails the run, as a stray word failed the
+// read before kinds moved to the prior rows.
+func TestTrainStrayWord(t *testing.T) {
+	const n = 200
+	prior, cert, err := datasets.RandomSplit(n, trainer.DefaultPriorFraction, trainer.DefaultSeed)
+	if err != nil {
+		t.Fatal(err)
+	}
+	cases := []struct {
+		name   string
+		row    int // the row holding the word
+		code   int
+		stdout string
+		stderr string
+	}{
+		{"in a certify row", cert[0], 0, "(2 numeric, 0 categorical)", `warning: trainer: column "y": numeric on the rows its kind comes from; 1 cell that is not a number ("unknown") read as missing`},
+		{"in a prior row", prior[0], 1, "", "word in a numeric column"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			dir := t.TempDir()
+			var b strings.Builder
+			b.WriteString("x,y,label\n")
+			for r := range n {
+				y := fmt.Sprintf("%d", (r*37)%100)
+				if r == c.row {
+					y = "unknown"
+				}
+				fmt.Fprintf(&b, "%d,%s,%c\n", (r*53)%100, y, "ab"[(r*37)%100/60])
+			}
+			data := filepath.Join(dir, "stray.csv")
+			os.WriteFile(data, []byte(b.String()), 0o644)
+			out, errs, code := runSurety(t, "", "train", "--data", data, "--out", filepath.Join(dir, "m.json"), "--linear-voters", "0")
+			if code != c.code || !strings.Contains(out, c.stdout) || !strings.Contains(errs, c.stderr) {
+				t.Errorf("exit %d, stdout %q, stderr %q; want exit %d, %q in stdout, %q in stderr", code, out, errs, c.code, c.stdout, c.stderr)
 			}
 		})
 	}

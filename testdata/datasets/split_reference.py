@@ -1,5 +1,5 @@
 #!/usr/bin/python3
-"""Reference for datasets.StratifiedSplit and its generator, written apart
+"""Reference for datasets.StratifiedSplit, datasets.RandomSplit and their generator, written apart
 from the Go code: PCG-DXSM 128/64 as math/rand/v2 defines it (state = state *
 mul + inc mod 2^128, multiplier 0x2360ed051fc65da44385df649fccf645, increment
 0x5851f42d4c957f2d14057b7ef767814f, DXSM output with 0xda942042e4dd58b5;
@@ -65,3 +65,14 @@ print("draws below 1000, seed 1:", [below(g, 1000) for _ in range(4)])
 g = PCG(1, 2)
 print("PCG(1, 2) Uint64:", [g.uint64() for _ in range(3)])
 print("split of 0,1 x6 at 0.5, seed 1:", stratified_split([0, 1] * 6, 2, 0.5, 1))
+
+
+def random_split(n, fraction, seed):
+    g = PCG(seed, SPLIT_STREAM)
+    rows = list(range(n))
+    shuffle(g, rows)
+    return sorted(rows[: round_half_away(fraction * n)])
+
+
+print("random split of 12 rows at 0.5, seed 1:", random_split(12, 0.5, 1))
+print("random split of 7 rows at 0.3, seed 5:", random_split(7, 0.3, 5))
