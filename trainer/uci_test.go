@@ -80,15 +80,16 @@ func TestHouseVotes(t *testing.T) {
 // problem and the hard pair 3 against 8, with the default pool (capped at
 // 2,048 of the stumps on 784 columns). The test error is within a stated
 // margin of scikit-learn's AdaBoost with 500 stumps
-// (testdata/trainer/baseline.csv), and the certificate holds up against
-// the test rows:
-//   - ten digits, 500 test rows: the certificate is at least the test error;
+// (testdata/trainer/baseline.csv), and the test rows do not contradict
+// the certificate: their 95% lower limit (Clopper-Pearson) is at most the
+// certificate, the verdict of Check. The raw test error is no fair yardstick:
+//   - ten digits, 500 test rows: the rate's standard deviation is about 1.9
+//     points, so near the bound the comparison is a coin toss (seed 3:
+//     24.6% against a certificate of 23.9%; the stratified split used
+//     before the random one happened to land above);
 //   - 3 against 8, 91 test rows: one error moves the rate 1.1 points and its
-//     standard deviation is about 3, so the raw comparison is a coin toss
-//     near the bound (seed 3: 12 errors, 13.2%, against a certificate of
-//     10.8%). The test asks instead that the rows do not contradict it:
-//     their 95% lower limit (Clopper-Pearson) is at most the certificate,
-//     the verdict of Check.
+//     standard deviation is about 3 (seed 3: 9 errors, 9.9%, against a
+//     certificate of 8.1%).
 //
 // The margins are ours. Ten digits: no worse than AdaBoost (it is at 55.6%
 // with stumps that split one class from the rest; the pool's multiclass
@@ -112,10 +113,9 @@ func TestMNIST(t *testing.T) {
 		name, baseline string
 		train, test    *datasets.Table
 		margin         float64
-		strict         bool // certificate >= raw test error
 	}{
-		{"ten digits", "mnist-10", train, test, 0, true},
-		{"3 against 8", "mnist-3v8", train.ClassSubset("3", "8"), test.ClassSubset("3", "8"), 0.08, false},
+		{"ten digits", "mnist-10", train, test, 0},
+		{"3 against 8", "mnist-3v8", train.ClassSubset("3", "8"), test.ClassSubset("3", "8"), 0.08},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -131,9 +131,6 @@ func TestMNIST(t *testing.T) {
 			base := baseline(t, c.baseline)
 			t.Logf("%s: pool %d, certificate %.4f (%s), certify-row error %.4f, test error %.4f on %d rows, AdaBoost %.4f",
 				c.name, m.Provenance.PoolSize, m.Certificate.RiskBound, m.Certificate.Family, m.Empirical.VoteError, testErr, c.test.Rows, base)
-			if c.strict && m.Certificate.RiskBound < testErr {
-				t.Errorf("certificate %.4f below the test error %.4f", m.Certificate.RiskBound, testErr)
-			}
 			chk, err := Check(m, c.test, CheckConfig{Delta: 0.05})
 			if err != nil {
 				t.Fatal(err)
