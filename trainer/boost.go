@@ -4,77 +4,179 @@ import (
 	"math"
 	"runtime"
 	"sync"
+
+	"surety/datasets"
 )
 
-// Boosting settings: the most rounds, and the relative fall of the loss
-// below which a round ends the fit.
+// Boosting settings: the most rounds, the shrinkage of each step, the
+// relative fall of the loss below which a round ends the fit, and the
+// largest problem (sample rows times voters) whose number of rounds is
+// chosen by cross-validation; larger samples overfit less, and take every
+// round the loss still falls by boostMinFall.
 const (
-	boostRounds  = 300
-	boostMinFall = 1e-6
+	boostRounds   = 300
+	boostShrink   = 0.5
+	boostMinFall  = 1e-6
+	boostFolds    = 5
+	boostCVBudget = 4_000_000
 )
 
-// boostWeights fits non-negative weights of a vote of hard voters by
-// greedy coordinate descent on the multinomial logistic loss of the vote's
-// class scores, F_c(x) = sum_i w_i [h_i(x) = c]: each round takes the voter
-// whose weight's partial derivative promises the steepest fall (a voter
-// with weight may also lose some) and sets its step by Newton's method on
-// the loss along it. This is boosting with the logistic loss (Friedman,
-// Hastie, Tibshirani 2000, Annals of Statistics) over a fixed pool, in the
-// multiclass form of SAMME (Zhu, Zou, Rosset, Hastie 2009) with the
-// logistic loss for the exponential one. votes[i][r] is voter i's class
-// on row r and y[r] the row's class. The weights come back on the simplex
-// (uniform when no round lowered the loss).
-func boostWeights(votes [][]uint8, y []int, k int) []float64 {
-	n, m := len(votes), len(y)
-	w := make([]float64, n)
-	f := make([]float64, m*k) // class scores per row
-	a := make([]float64, m*k) // softmax(F) - onehot(y): the loss's slope in F
-	g := make([]float64, n)
-	loss := boostSlope(f, a, y, k)
-	for range boostRounds {
-		boostGrad(g, votes, a, k)
-		best, bestSlope := -1, 0.0
-		for i, gi := range g {
-			// A fall along +w_i needs gi < 0; along -w_i, weight to give.
-			s := -gi
-			if gi > 0 && w[i] > 0 {
-				s = gi
-			}
-			if s > bestSlope {
-				best, bestSlope = i, s
-			}
+// booster is greedy coordinate descent on the multinomial logistic loss of
+// a vote's class scores, F_c(x) = sum_i w_i [h_i(x) = c], with
+// non-negative weights: each round takes the voter whose weight's partial
+// derivative promises the steepest fall (a voter with weight may also lose
+// some) and moves it by boostShrink times the Newton step along it. This
+// is boosting with the logistic loss (Friedman, Hastie, Tibshirani 2000,
+// Annals of Statistics) over a fixed pool, in the multiclass form of SAMME
+// (Zhu, Zou, Rosset, Hastie 2009) with the logistic loss for the
+// exponential one.
+type booster struct {
+	votes [][]uint8 // votes[i][r]: voter i's class on row r
+	y     []int
+	k     int
+	w     []float64
+	f, a  []float64 // class scores, and softmax(F) - onehot(y), per row
+	g     []float64
+	loss  float64
+}
+
+func newBooster(votes [][]uint8, y []int, k int) *booster {
+	b := &booster{votes: votes, y: y, k: k, w: make([]float64, len(votes)),
+		f: make([]float64, len(y)*k), a: make([]float64, len(y)*k), g: make([]float64, len(votes))}
+	b.loss = boostSlope(b.f, b.a, y, k)
+	return b
+}
+
+// round makes one step; it returns the voter and the step, and ok false
+// when no step lowers the loss by boostMinFall of it.
+func (b *booster) round() (voter int, step float64, ok bool) {
+	boostGrad(b.g, b.votes, b.a, b.k)
+	best, bestSlope := -1, 0.0
+	for i, gi := range b.g {
+		// A fall along +w_i needs gi < 0; along -w_i, weight to give.
+		s := -gi
+		if gi > 0 && b.w[i] > 0 {
+			s = gi
 		}
-		if best < 0 || bestSlope <= 1e-12*float64(m) {
-			break
-		}
-		step := boostStep(f, votes[best], y, k, -w[best])
-		if step == 0 {
-			break
-		}
-		w[best] += step
-		h := votes[best]
-		for r := range m {
-			f[r*k+int(h[r])] += step
-		}
-		next := boostSlope(f, a, y, k)
-		fall := loss - next
-		loss = next
-		if fall <= boostMinFall*loss {
-			break
+		if s > bestSlope {
+			best, bestSlope = i, s
 		}
 	}
+	if best < 0 || bestSlope <= 1e-12*float64(len(b.y)) {
+		return -1, 0, false
+	}
+	step = boostShrink * boostStep(b.f, b.votes[best], b.y, b.k, -b.w[best]/boostShrink)
+	if step == 0 {
+		return -1, 0, false
+	}
+	b.w[best] += step
+	h := b.votes[best]
+	for r := range b.y {
+		b.f[r*b.k+int(h[r])] += step
+	}
+	next := boostSlope(b.f, b.a, b.y, b.k)
+	fall := b.loss - next
+	b.loss = next
+	return best, step, fall > boostMinFall*next
+}
+
+// weights returns the weights on the simplex (uniform when no round was
+// made).
+func (b *booster) weights() []float64 {
+	w := make([]float64, len(b.w))
 	var s float64
-	for i := range w {
-		w[i] = math.Max(w[i], 0)
+	for i, x := range b.w {
+		w[i] = math.Max(x, 0)
 		s += w[i]
 	}
 	if !(s > 0) {
-		return uniformWeights(n)
+		return uniformWeights(len(w))
 	}
 	for i := range w {
 		w[i] /= s
 	}
 	return w
+}
+
+// boostWeights fits the boosted vote's weights on the rows of votes and y:
+// the number of rounds is chosen by boostFolds-fold cross-validation on
+// them (the round of least mean held-out log-loss; folds stratified and
+// seeded) when the problem is within boostCVBudget, and is every round
+// that still lowers the loss otherwise.
+func boostWeights(votes [][]uint8, y []int, k int, seed uint64) []float64 {
+	rounds := boostRounds
+	if len(y)*len(votes) <= boostCVBudget && len(y) >= 2*boostFolds {
+		rounds = boostCVRounds(votes, y, k, seed)
+	}
+	b := newBooster(votes, y, k)
+	for range rounds {
+		if _, _, ok := b.round(); !ok {
+			break
+		}
+	}
+	return b.weights()
+}
+
+// boostCVRounds returns the number of rounds with the least held-out
+// log-loss summed over the folds.
+func boostCVRounds(votes [][]uint8, y []int, k int, seed uint64) int {
+	folds, err := datasets.KFold(y, k, boostFolds, seed)
+	if err != nil {
+		return boostRounds
+	}
+	held := make([]float64, boostRounds+1)
+	for _, fold := range folds {
+		out := make([]bool, len(y))
+		for _, r := range fold {
+			out[r] = true
+		}
+		var in []int
+		for r := range y {
+			if !out[r] {
+				in = append(in, r)
+			}
+		}
+		sub := func(rows []int) ([][]uint8, []int) {
+			v := make([][]uint8, len(votes))
+			for i, col := range votes {
+				v[i] = make([]uint8, len(rows))
+				for j, r := range rows {
+					v[i][j] = col[r]
+				}
+			}
+			ys := make([]int, len(rows))
+			for j, r := range rows {
+				ys[j] = y[r]
+			}
+			return v, ys
+		}
+		tv, ty := sub(in)
+		vv, vy := sub(fold)
+		b := newBooster(tv, ty, k)
+		vf := make([]float64, len(vy)*k)
+		va := make([]float64, len(vy)*k)
+		held[0] += boostSlope(vf, va, vy, k)
+		live := true
+		for t := 1; t <= boostRounds; t++ {
+			if live {
+				i, step, ok := b.round()
+				if i >= 0 {
+					for j, c := range vv[i] {
+						vf[j*k+int(c)] += step
+					}
+				}
+				live = ok
+			}
+			held[t] += boostSlope(vf, va, vy, k)
+		}
+	}
+	best := 0
+	for t, l := range held {
+		if l < held[best] {
+			best = t
+		}
+	}
+	return best
 }
 
 // boostSlope writes softmax(F_r) - onehot(y_r) into a and returns the loss

@@ -16,11 +16,12 @@ const (
 	FamilyChebyshev  = "chebyshev-cantelli"
 	FamilyHoldOut    = "hold-out"
 	FamilyBoosted    = "hold-out-boosted"
+	FamilyLogistic   = "hold-out-logistic"
 )
 
 // Families lists the certificate families in the order they are computed
 // and listed; the C-bound applies to two classes only.
-var Families = []string{FamilyFirstOrder, FamilyTandem, FamilyCBound, FamilyChebyshev, FamilyHoldOut, FamilyBoosted}
+var Families = []string{FamilyFirstOrder, FamilyTandem, FamilyCBound, FamilyChebyshev, FamilyLogistic, FamilyBoosted, FamilyHoldOut}
 
 // The votes a family may certify.
 const (
@@ -32,7 +33,14 @@ const (
 	// VoteBoosted is the vote weighted on the prior rows by boosting: the
 	// multinomial logistic loss of the vote, by coordinate descent.
 	VoteBoosted = "boosted"
+	// VoteLogistic is the full linear voter alone: the logistic regression
+	// on every column, its strength chosen by cross-validation on the
+	// prior rows.
+	VoteLogistic = "logistic"
 )
+
+// holdOutFamily names the family that certifies a held-out vote.
+var holdOutFamily = map[string]string{VotePriorRows: FamilyHoldOut, VoteBoosted: FamilyBoosted, VoteLogistic: FamilyLogistic}
 
 // heldOut is a vote fixed before the certify rows were read, certified by
 // the test-set bound on its errors there.

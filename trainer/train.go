@@ -67,9 +67,10 @@ type Prepared struct {
 	// holdFits keeps the prior-rows fits by objective and trade-off: the
 	// prior kind does not enter them, so a sweep over priors reuses them.
 	holdFits map[Setting][]float64
-	// boosted is the boosted vote, fixed on the prior rows, with its
-	// certify-row errors; the same for every setting.
-	boosted *shipVote
+	// fixed holds the held-out votes that do not depend on the setting
+	// (the boosted vote, the full linear voter alone), fixed on the prior
+	// rows, with their certify-row errors and margins.
+	fixed []shipVote
 }
 
 // Prepare splits t (datasets.RandomSplit: a uniform random subset of the
@@ -133,71 +134,118 @@ func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, err
 	}
 
 	p.stage("statistics")
-	priorStats, err := p.pool.Count(t, p.priorRows)
+	sample := p.priorSample(rng)
+	votes, err := p.honestVotes(sample)
 	if err != nil {
-		return nil, fmt.Errorf("trainer: %w", err)
+		return nil, err
 	}
+	y := make([]int, len(sample))
+	for r, row := range sample {
+		y[r] = t.Label[row]
+	}
+	p.priorRates = honestRates(votes, y, p.oobMasks(sample))
 	certStats, err := p.pool.Count(t, p.certRows)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
-	p.priorRates, p.certRates = ratesOf(priorStats), ratesOf(certStats)
+	p.certRates = ratesOf(certStats)
 	if err := ctx.Err(); err != nil {
 		return nil, err
 	}
 
 	p.stage("boost")
-	if err := p.boost(rng); err != nil {
-		return nil, err
+	var fixed []shipVote
+	for i, oof := range p.pool.OutOfFold {
+		if oof != nil {
+			q := make([]float64, len(p.pool.Voters))
+			q[i] = 1
+			fixed = append(fixed, shipVote{vote: VoteLogistic, q: q})
+		}
+	}
+	fixed = append(fixed, shipVote{vote: VoteBoosted, q: boostWeights(votes, y, len(t.Classes), cfg.Seed)})
+	for _, v := range fixed {
+		if v.margins, v.errs, err = p.signedMargins(v.q); err != nil {
+			return nil, err
+		}
+		p.fixed = append(p.fixed, v)
 	}
 	return p, nil
 }
 
-// boostRows is the most prior rows the boosted vote is weighted on; above
-// it a seeded sample of that many is used (the pool is fixed already, and
-// the weights of a few thousand voters settle well before).
-const boostRows = 10000
+// The prior rows the prior-row statistics and the boosted vote are
+// computed on: all of them up to sampleRows, else a seeded sample of that
+// many, fewer still for a large pool so that the votes (one byte per voter
+// and row) stay within sampleVotes. The pool is fixed by then; a sample of
+// thousands of rows pins each voter's error rate to a point or so.
+const (
+	sampleRows  = 10000
+	sampleVotes = 10_000_000
+	minSample   = 2000
+)
 
-// boost weights the pool by boostWeights on the prior rows (a sample of
-// boostRows of them when there are more) and counts the vote's errors on
-// the certify rows.
-func (p *Prepared) boost(rng *rand.Rand) error {
-	rows := p.priorRows
-	if len(rows) > boostRows {
-		rows = slices.Clone(rows)
-		rng.Shuffle(len(rows), func(i, j int) { rows[i], rows[j] = rows[j], rows[i] })
-		rows = rows[:boostRows]
-		slices.Sort(rows)
+// priorSample returns the prior rows the prior-row fits see, sorted.
+func (p *Prepared) priorSample(rng *rand.Rand) []int {
+	size := min(len(p.priorRows), sampleRows, max(minSample, sampleVotes/len(p.pool.Voters)))
+	if size == len(p.priorRows) {
+		return p.priorRows
 	}
-	votes, err := p.pool.Votes(p.t, rows)
+	rows := slices.Clone(p.priorRows)
+	rng.Shuffle(len(rows), func(i, j int) { rows[i], rows[j] = rows[j], rows[i] })
+	rows = rows[:size]
+	slices.Sort(rows)
+	return rows
+}
+
+// honestVotes returns every voter's class on the sample rows, a voter
+// fitted by cross-validation giving its out-of-fold classes (Pool.OutOfFold
+// follows the prior rows' order), so that no voter is scored on rows it
+// was fitted on; bootstrap voters are masked to their out-of-bag rows by
+// oobMasks.
+func (p *Prepared) honestVotes(sample []int) ([][]uint8, error) {
+	votes, err := p.pool.Votes(p.t, sample)
 	if err != nil {
-		return fmt.Errorf("trainer: %w", err)
+		return nil, fmt.Errorf("trainer: %w", err)
 	}
-	// A voter fitted by cross-validation is scored by its out-of-fold
-	// classes, so the weighting sees how it does on rows it was not fitted
-	// on (Pool.OutOfFold follows the prior rows' order).
-	pos := make(map[int]int, len(p.priorRows))
-	for j, r := range p.priorRows {
-		pos[r] = j
-	}
+	pos := p.priorPositions()
 	for i, oof := range p.pool.OutOfFold {
 		if oof == nil {
 			continue
 		}
-		for r, row := range rows {
+		for r, row := range sample {
 			votes[i][r] = uint8(oof[pos[row]])
 		}
 	}
-	y := make([]int, len(rows))
-	for r, row := range rows {
-		y[r] = p.t.Label[row]
+	return votes, nil
+}
+
+// priorPositions maps a prior row to its index among the prior rows.
+func (p *Prepared) priorPositions() map[int]int {
+	pos := make(map[int]int, len(p.priorRows))
+	for j, r := range p.priorRows {
+		pos[r] = j
 	}
-	v := shipVote{vote: VoteBoosted, q: boostWeights(votes, y, len(p.t.Classes))}
-	if v.margins, v.errs, err = p.signedMargins(v.q); err != nil {
-		return err
+	return pos
+}
+
+// oobMasks returns, for each bootstrap voter, the bit set over the sample
+// rows of those its bootstrap sample missed; nil for the other voters,
+// which are scored on every row.
+func (p *Prepared) oobMasks(sample []int) [][]uint64 {
+	masks := make([][]uint64, len(p.pool.Voters))
+	pos := p.priorPositions()
+	for i, oob := range p.pool.OutOfBag {
+		if oob == nil {
+			continue
+		}
+		m := make([]uint64, (len(sample)+63)/64)
+		for r, row := range sample {
+			if j := pos[row]; oob[j/64]&(1<<(j%64)) != 0 {
+				m[r/64] |= 1 << (r % 64)
+			}
+		}
+		masks[i] = m
 	}
-	p.boosted = &v
-	return nil
+	return masks
 }
 
 func (p *Prepared) stage(s string) {
@@ -242,11 +290,7 @@ type fitted struct {
 func (f *fitted) held() []heldOut {
 	var h []heldOut
 	for _, v := range f.votes[1:] {
-		fam := FamilyHoldOut
-		if v.vote == VoteBoosted {
-			fam = FamilyBoosted
-		}
-		h = append(h, heldOut{family: fam, vote: v.vote, errs: v.errs})
+		h = append(h, heldOut{family: holdOutFamily[v.vote], vote: v.vote, errs: v.errs})
 	}
 	return h
 }
@@ -303,10 +347,10 @@ func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
 	if hold.margins, hold.errs, err = p.signedMargins(holdQ); err != nil {
 		return nil, err
 	}
-	f := &fitted{votes: []shipVote{post, hold}}
-	if p.boosted != nil {
-		f.votes = append(f.votes, *p.boosted)
-	}
+	// On a tie the first family listed ships: the full linear voter alone,
+	// then the boosted vote, then the objective's fit (an order fixed in
+	// advance, simplest first).
+	f := &fitted{votes: append(append([]shipVote{post}, p.fixed...), hold)}
 	f.emp = empirical(p.certRates, q, prior, post.errs, len(t.Classes) == 2)
 	cert, err := certify(cfg.Delta, f.emp, f.held(), len(t.Classes), cfg.Family)
 	if err != nil {

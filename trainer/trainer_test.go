@@ -288,9 +288,10 @@ func TestFamilyFixedInAdvance(t *testing.T) {
 		name, family string
 		lines        int
 	}{
-		{"all", "", 6},
+		{"all", "", 7},
 		{"hold-out", FamilyHoldOut, 1},
 		{"boosted", FamilyBoosted, 1},
+		{"logistic", FamilyLogistic, 1},
 		{"tandem", FamilyTandem, 1},
 	}
 	for _, c := range cases {

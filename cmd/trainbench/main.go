@@ -33,7 +33,15 @@ func main() {
 	cols := flag.Int("cols", 50, "numeric columns")
 	linear := flag.Int("linear-voters", 32, "linear voters in the pool")
 	objective := flag.String("objective", "tandem", "objective: linear, cbound, tandem or kl")
+	write := flag.String("write", "", "only write the generated CSV to this file (to time other tools on the same rows) and stop")
 	flag.Parse()
+	if *write != "" {
+		if err := generate(*write, *rows, *cols); err != nil {
+			fmt.Fprintln(os.Stderr, "trainbench:", err)
+			os.Exit(1)
+		}
+		return
+	}
 	if err := run(*rows, *cols, *linear, trainer.Objective(*objective)); err != nil {
 		fmt.Fprintln(os.Stderr, "trainbench:", err)
 		os.Exit(1)
