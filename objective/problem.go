@@ -3,6 +3,10 @@ package objective
 import (
 	"fmt"
 	"math"
+	"slices"
+	"sync"
+
+	"gonum.org/v1/gonum/floats"
 )
 
 // Problem is a function of the posterior weights q and its gradient, in the
@@ -27,42 +31,72 @@ func problemOf(risks, joint, prior []float64, f surface, err error) (Problem, er
 	if err != nil {
 		return Problem{}, err
 	}
-	eval := func(q []float64) (v, dr, dt, dkl float64) {
+	var memo *jqMemo
+	if joint != nil {
+		memo = &jqMemo{joint: joint}
+	}
+	// eval returns the surface at q and J q (nil without a joint matrix).
+	eval := func(q []float64) (v, dr, dt, dkl float64, jq []float64) {
 		var r, t float64
 		if risks != nil {
 			r = GibbsRisk(q, risks)
 		}
 		if joint != nil {
-			t = TandemRisk(q, joint)
+			if len(joint) != len(q)*len(q) {
+				t = math.NaN()
+			} else {
+				jq = memo.product(q)
+				t = floats.Dot(q, jq)
+			}
 		}
-		return f(r, t, Divergence(q, prior))
+		v, dr, dt, dkl = f(r, t, Divergence(q, prior))
+		return v, dr, dt, dkl, jq
 	}
 	return Problem{
-		Func: func(q []float64) float64 { v, _, _, _ := eval(q); return v },
+		Func: func(q []float64) float64 { v, _, _, _, _ := eval(q); return v },
 		Grad: func(grad, q []float64) {
 			if len(grad) != len(prior) || len(q) != len(prior) {
 				fillNaN(grad)
 				return
 			}
-			_, dr, dt, dkl := eval(q)
-			var tg []float64
-			if joint != nil {
-				tg = make([]float64, len(q))
-				TandemRiskGrad(tg, q, joint)
-			}
+			_, dr, dt, dkl, jq := eval(q)
 			DivergenceGrad(grad, q, prior)
 			for i := range grad {
 				g := dkl * grad[i]
 				if risks != nil {
 					g += dr * risks[i]
 				}
-				if tg != nil {
-					g += dt * tg[i]
+				if jq != nil {
+					g += dt * 2 * jq[i]
 				}
 				grad[i] = g
 			}
 		},
 	}, nil
+}
+
+// jqMemo keeps J q for the last q it was asked for: an optimiser asks for
+// the value and the gradient at the same point, and each needs the same
+// n x n product, the whole cost of a step.
+type jqMemo struct {
+	joint []float64
+	mu    sync.Mutex
+	q, jq []float64
+}
+
+// product returns J q in a new slice.
+func (m *jqMemo) product(q []float64) []float64 {
+	m.mu.Lock()
+	defer m.mu.Unlock()
+	if !slices.Equal(m.q, q) {
+		n := len(q)
+		m.q = append(m.q[:0], q...)
+		m.jq = slices.Grow(m.jq[:0], n)[:n]
+		for i := range n {
+			m.jq[i] = floats.Dot(m.joint[i*n:(i+1)*n], q)
+		}
+	}
+	return slices.Clone(m.jq)
 }
 
 // checkStats validates the statistics an objective is built on.
@@ -79,17 +113,19 @@ func checkStats(risks, joint, prior []float64, m int) error {
 	if risks != nil && len(risks) != n {
 		return fmt.Errorf("objective: %d risks for %d prior weights: %w", len(risks), n, ErrRange)
 	}
+	// The message is formatted only for a bad entry: the joint matrix has
+	// n^2 of them, and formatting each cost more than the fit it guards.
 	for i, r := range risks {
-		if err := checkRate(fmt.Sprintf("risk of voter %d", i), r); err != nil {
-			return err
+		if !(r >= 0 && r <= 1) {
+			return checkRate(fmt.Sprintf("risk of voter %d", i), r)
 		}
 	}
 	if joint != nil && len(joint) != n*n {
 		return fmt.Errorf("objective: joint matrix has %d entries for %d voters, want %d: %w", len(joint), n, n*n, ErrRange)
 	}
 	for i, j := range joint {
-		if err := checkRate(fmt.Sprintf("joint error rate %d,%d", i/n, i%n), j); err != nil {
-			return err
+		if !(j >= 0 && j <= 1) {
+			return checkRate(fmt.Sprintf("joint error rate %d,%d", i/n, i%n), j)
 		}
 	}
 	if m < 1 {

@@ -6,6 +6,7 @@ import (
 	"sync"
 
 	"surety/datasets"
+	"surety/voters"
 )
 
 // Boosting settings: the most rounds, the shrinkage of each step, the
@@ -37,20 +38,108 @@ type booster struct {
 	w     []float64
 	f, a  []float64 // class scores, and softmax(F) - onehot(y), per row
 	g     []float64
+	cells []cellGroup
 	loss  float64
 }
 
-func newBooster(votes [][]uint8, y []int, k int) *booster {
+func newBooster(votes [][]uint8, y []int, k int, groups [][]int) *booster {
 	b := &booster{votes: votes, y: y, k: k, w: make([]float64, len(votes)),
-		f: make([]float64, len(y)*k), a: make([]float64, len(y)*k), g: make([]float64, len(votes))}
+		f: make([]float64, len(y)*k), a: make([]float64, len(y)*k), g: make([]float64, len(votes)),
+		cells: makeCells(votes, len(y), k, groups)}
 	b.loss = boostSlope(b.f, b.a, y, k)
 	return b
+}
+
+// cellGroup is a group of voters and the partition of the rows into the
+// cells on which every voter of the group is constant: the rows with the
+// same tuple of the group's votes. A voter's partial derivative is then a
+// sum over the cells instead of over the rows, and the stumps of one
+// column (a few dozen voters, a few dozen cells) cost one pass over the
+// rows together, as histogram-based boosting does.
+type cellGroup struct {
+	voters []int
+	cellOf []uint16  // each row's cell; nil: sum the group's voters row by row
+	class  [][]uint8 // class[j][c]: voter voters[j]'s class on cell c
+	sums   []float64 // scratch: sums[c*k+class] of a over the cell's rows
+}
+
+// maxCells is the most cells a group may have; a group with more is
+// summed row by row.
+const maxCells = 1024
+
+// makeCells partitions the rows for each group of voters, splitting a
+// group whose votes do not share a small partition. A group of at most k
+// voters is summed row by row: its cell sums would cost k adds a row.
+func makeCells(votes [][]uint8, rows, k int, groups [][]int) []cellGroup {
+	var out []cellGroup
+	one := func(g []int) bool {
+		if len(g) <= k {
+			out = append(out, cellGroup{voters: g})
+			return true
+		}
+		ids := make(map[string]uint16)
+		cellOf := make([]uint16, rows)
+		key := make([]byte, len(g))
+		for r := range rows {
+			for j, i := range g {
+				key[j] = votes[i][r]
+			}
+			id, ok := ids[string(key)]
+			if !ok {
+				if len(ids) == maxCells {
+					return false
+				}
+				id = uint16(len(ids))
+				ids[string(key)] = id
+			}
+			cellOf[r] = id
+		}
+		class := make([][]uint8, len(g))
+		for j := range g {
+			class[j] = make([]uint8, len(ids))
+		}
+		for key, id := range ids {
+			for j := range g {
+				class[j][id] = key[j]
+			}
+		}
+		out = append(out, cellGroup{voters: g, cellOf: cellOf, class: class, sums: make([]float64, len(ids)*k)})
+		return true
+	}
+	for _, g := range groups {
+		if !one(g) {
+			out = append(out, cellGroup{voters: g})
+		}
+	}
+	return out
+}
+
+// voterGroups groups the voters that read one column and the same one (the
+// stumps of a column); every other voter is a group of its own.
+func voterGroups(vs []voters.Voter) [][]int {
+	var groups [][]int
+	byColumn := make(map[string]int)
+	for i, v := range vs {
+		cols := v.Columns()
+		if len(cols) != 1 {
+			groups = append(groups, []int{i})
+			continue
+		}
+		g, ok := byColumn[cols[0]]
+		if !ok {
+			g = len(groups)
+			byColumn[cols[0]] = g
+			groups = append(groups, nil)
+		}
+		groups[g] = append(groups[g], i)
+	}
+	return groups
 }
 
 // round makes one step; it returns the voter and the step, and ok false
 // when no step lowers the loss by boostMinFall of it.
 func (b *booster) round() (voter int, step float64, ok bool) {
-	boostGrad(b.g, b.votes, b.a, b.k)
+	boostGrad(b.g, b.votes, b.cells, b.a, b.k)
 	best, bestSlope := -1, 0.0
 	for i, gi := range b.g {
 		// A fall along +w_i needs gi < 0; along -w_i, weight to give.
@@ -103,12 +192,12 @@ func (b *booster) weights() []float64 {
 // them (the round of least mean held-out log-loss; folds stratified and
 // seeded) when the problem is within boostCVBudget, and is every round
 // that still lowers the loss otherwise.
-func boostWeights(votes [][]uint8, y []int, k int, seed uint64) []float64 {
+func boostWeights(votes [][]uint8, y []int, k int, groups [][]int, seed uint64) []float64 {
 	rounds := boostRounds
 	if len(y)*len(votes) <= boostCVBudget && len(y) >= 2*boostFolds {
-		rounds = boostCVRounds(votes, y, k, seed)
+		rounds = boostCVRounds(votes, y, k, groups, seed)
 	}
-	b := newBooster(votes, y, k)
+	b := newBooster(votes, y, k, groups)
 	for range rounds {
 		if _, _, ok := b.round(); !ok {
 			break
@@ -119,7 +208,7 @@ func boostWeights(votes [][]uint8, y []int, k int, seed uint64) []float64 {
 
 // boostCVRounds returns the number of rounds with the least held-out
 // log-loss summed over the folds.
-func boostCVRounds(votes [][]uint8, y []int, k int, seed uint64) int {
+func boostCVRounds(votes [][]uint8, y []int, k int, groups [][]int, seed uint64) int {
 	folds, err := datasets.KFold(y, k, boostFolds, seed)
 	if err != nil {
 		return boostRounds
@@ -152,7 +241,7 @@ func boostCVRounds(votes [][]uint8, y []int, k int, seed uint64) int {
 		}
 		tv, ty := sub(in)
 		vv, vy := sub(fold)
-		b := newBooster(tv, ty, k)
+		b := newBooster(tv, ty, k, groups)
 		vf := make([]float64, len(vy)*k)
 		va := make([]float64, len(vy)*k)
 		held[0] += boostSlope(vf, va, vy, k)
@@ -204,18 +293,40 @@ func boostSlope(f, a []float64, y []int, k int) float64 {
 }
 
 // boostGrad writes each voter's partial derivative, sum_r a[r, h_i(r)],
-// into g; voters are split over goroutines, each sum in row order.
-func boostGrad(g []float64, votes [][]uint8, a []float64, k int) {
+// into g: per group, the sums of a over each cell, then each voter's sum
+// over the cells of the entries of its class. Groups are split over
+// goroutines; each sum runs in a fixed order, so the result does not
+// depend on the number of goroutines.
+func boostGrad(g []float64, votes [][]uint8, cells []cellGroup, a []float64, k int) {
 	var wg sync.WaitGroup
-	workers := max(1, min(runtime.GOMAXPROCS(0), len(votes)))
+	workers := max(1, min(runtime.GOMAXPROCS(0), len(cells)))
 	for wk := range workers {
 		wg.Go(func() {
-			for i := wk; i < len(votes); i += workers {
-				var s float64
-				for r, c := range votes[i] {
-					s += a[r*k+int(c)]
+			for gi := wk; gi < len(cells); gi += workers {
+				cg := &cells[gi]
+				if cg.cellOf == nil {
+					for _, i := range cg.voters {
+						var s float64
+						for r, c := range votes[i] {
+							s += a[r*k+int(c)]
+						}
+						g[i] = s
+					}
+					continue
 				}
-				g[i] = s
+				clear(cg.sums)
+				for r, c := range cg.cellOf {
+					for j := range k {
+						cg.sums[int(c)*k+j] += a[r*k+j]
+					}
+				}
+				for j, i := range cg.voters {
+					var s float64
+					for c, cls := range cg.class[j] {
+						s += cg.sums[c*k+int(cls)]
+					}
+					g[i] = s
+				}
 			}
 		})
 	}

@@ -44,7 +44,11 @@ func Percent(x float64, up bool) string {
 }
 
 // FormatBound prints an upper bound at four decimals, rounded up, so a
-// table never shows less than the bound it stands for.
+// table never shows less than the bound it stands for; a bound of 1 or
+// more says nothing about an error rate, and prints as "no bound (>= 1)".
 func FormatBound(x float64) string {
+	if x >= 1 {
+		return "no bound (>= 1)"
+	}
 	return strconv.FormatFloat(math.Ceil(x*1e4)/1e4, 'f', 4, 64)
 }

@@ -162,7 +162,7 @@ func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, err
 			fixed = append(fixed, shipVote{vote: VoteLogistic, q: q})
 		}
 	}
-	fixed = append(fixed, shipVote{vote: VoteBoosted, q: boostWeights(votes, y, len(t.Classes), cfg.Seed)})
+	fixed = append(fixed, shipVote{vote: VoteBoosted, q: boostWeights(votes, y, len(t.Classes), voterGroups(p.pool.Voters), cfg.Seed)})
 	for _, v := range fixed {
 		if v.margins, v.errs, err = p.signedMargins(v.q); err != nil {
 			return nil, err

@@ -5,7 +5,10 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"slices"
+	"sync"
+	"sync/atomic"
 
 	"surety/datasets"
 )
@@ -184,20 +187,44 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 		return nil, fmt.Errorf("voters: build pool: linear voters need a random source")
 	}
 	p := &Pool{Classes: slices.Clone(t.Classes), Config: cfg}
-	cs := &candidates{m: len(rows)}
-	var usable []int
 	for j := range t.Columns {
-		c := &t.Columns[j]
-		present := false
-		switch c.Kind {
-		case datasets.Numeric:
-			present = cs.numericStumps(t, c, rows, cfg.Thresholds)
-		case datasets.Categorical:
-			present = cs.categoryStumps(t, c, rows, cfg.MaxLevels)
-		default:
+		if c := &t.Columns[j]; c.Kind != datasets.Numeric && c.Kind != datasets.Categorical {
 			return nil, fmt.Errorf("voters: build pool: column %q has unknown kind %d", c.Name, c.Kind)
 		}
-		if present {
+	}
+	// Each column's stumps are found on their own (a sort of the column's
+	// prior values is most of the work), over goroutines, then joined in
+	// column order, so the pool does not depend on their number.
+	perColumn := make([]candidates, len(t.Columns))
+	present := make([]bool, len(t.Columns))
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range max(1, min(runtime.GOMAXPROCS(0), len(t.Columns))) {
+		wg.Go(func() {
+			var vals []float64
+			for {
+				j := int(next.Add(1) - 1)
+				if j >= len(t.Columns) {
+					return
+				}
+				cs, c := &perColumn[j], &t.Columns[j]
+				cs.m, cs.vals = len(rows), vals
+				if c.Kind == datasets.Numeric {
+					present[j] = cs.numericStumps(t, c, rows, cfg.Thresholds)
+				} else {
+					present[j] = cs.categoryStumps(t, c, rows, cfg.MaxLevels)
+				}
+				vals, cs.vals = cs.vals, nil
+			}
+		})
+	}
+	wg.Wait()
+	cs := &candidates{m: len(rows)}
+	var usable []int
+	for j := range perColumn {
+		cs.voters = append(cs.voters, perColumn[j].voters...)
+		cs.errs = append(cs.errs, perColumn[j].errs...)
+		if present[j] {
 			usable = append(usable, j)
 		}
 	}
@@ -280,13 +307,7 @@ type candidates struct {
 	m      int // prior rows
 	voters []Voter
 	errs   []int
-	cells  []cell // numericStumps' scratch, reused column after column
-}
-
-// cell is a present numeric value of a prior row and the row's class.
-type cell struct {
-	v     float64
-	class int
+	vals   []float64 // numericStumps' scratch, reused column after column
 }
 
 // add appends v, which gets right of the prior rows right.
@@ -379,50 +400,50 @@ func sum(xs []int) int {
 // present value in the prior rows.
 func (cs *candidates) numericStumps(t *datasets.Table, c *datasets.Column, rows []int, thresholds int) bool {
 	k := len(t.Classes)
-	cells := cs.cells[:0]
+	vals := cs.vals[:0]
 	miss := make([]int, k)
 	for _, r := range rows {
 		if v := c.Num[r]; math.IsNaN(v) {
 			miss[t.Label[r]]++
 		} else {
-			cells = append(cells, cell{v, t.Label[r]})
+			vals = append(vals, v)
 		}
 	}
-	cs.cells = cells
-	if len(cells) == 0 {
+	cs.vals = vals
+	if len(vals) == 0 {
 		return false
 	}
-	// No NaN is left, so < orders the values; the order of equal values
-	// does not matter.
-	slices.SortFunc(cells, func(a, b cell) int {
-		switch {
-		case a.v < b.v:
-			return -1
-		case a.v > b.v:
-			return 1
-		}
-		return 0
-	})
-	n := len(cells)
-	maxV := cells[n-1].v
+	// The cuts are quantiles of the values alone, so a plain float sort
+	// finds them (no NaN is left); the class counts on either side of each
+	// cut then come from one pass that puts each row in its bin.
+	slices.Sort(vals)
+	n := len(vals)
+	maxV := vals[n-1]
 	var cuts []float64
 	for q := 1; q <= thresholds; q++ {
-		v := cells[(q*n+thresholds)/(thresholds+1)-1].v // the q/(T+1) quantile: index ceil(q n/(T+1)) - 1
+		v := vals[(q*n+thresholds)/(thresholds+1)-1] // the q/(T+1) quantile: index ceil(q n/(T+1)) - 1
 		if v >= maxV || math.IsInf(v, 0) || (len(cuts) > 0 && cuts[len(cuts)-1] == v) {
 			continue
 		}
 		cuts = append(cuts, v)
 	}
-	low := make([]int, k)
+	// bins[b*k+class]: rows with cuts[b-1] < v <= cuts[b]; the last bin
+	// holds the values above every cut.
+	bins := make([]int, (len(cuts)+1)*k)
 	total := make([]int, k)
-	for _, x := range cells {
-		total[x.class]++
+	for _, r := range rows {
+		v := c.Num[r]
+		if math.IsNaN(v) {
+			continue
+		}
+		b, _ := slices.BinarySearch(cuts, v)
+		bins[b*k+t.Label[r]]++
+		total[t.Label[r]]++
 	}
-	i := 0
-	for _, cut := range cuts {
-		for i < n && cells[i].v <= cut {
-			low[cells[i].class]++
-			i++
+	low := make([]int, k)
+	for b, cut := range cuts {
+		for j := range low {
+			low[j] += bins[b*k+j]
 		}
 		high := make([]int, k)
 		for j := range high {

@@ -20,6 +20,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"runtime/pprof"
 	"strconv"
 	"time"
 
@@ -34,7 +35,19 @@ func main() {
 	linear := flag.Int("linear-voters", 32, "linear voters in the pool")
 	objective := flag.String("objective", "tandem", "objective: linear, cbound, tandem or kl")
 	write := flag.String("write", "", "only write the generated CSV to this file (to time other tools on the same rows) and stop")
+	profile := flag.String("cpuprofile", "", "write a CPU profile of the training run to this file (read it with go tool pprof)")
 	flag.Parse()
+	if *profile != "" {
+		f, err := os.Create(*profile)
+		if err == nil {
+			err = pprof.StartCPUProfile(f)
+		}
+		if err != nil {
+			fmt.Fprintln(os.Stderr, "trainbench:", err)
+			os.Exit(1)
+		}
+		defer pprof.StopCPUProfile()
+	}
 	if *write != "" {
 		if err := generate(*write, *rows, *cols); err != nil {
 			fmt.Fprintln(os.Stderr, "trainbench:", err)
@@ -81,7 +94,7 @@ func run(rows, cols, linear int, obj trainer.Objective) error {
 		fmt.Printf("  %-11s %8.3f s\n", stages[i], times[i+1].Sub(times[i]).Seconds())
 	}
 	o := m.Provenance.Optimizer
-	fmt.Printf("  optimiser   certify-rows fit: %d L-BFGS iterations, %d evaluations (the optimise stage also holds the prior-rows fit)\n", o.Iterations, o.Evaluations)
+	fmt.Printf("  optimiser   certify-rows fit: %s (the optimise stage also holds the prior-rows fit)\n", o.Summary())
 	fmt.Printf("  total       %8.3f s\n", times[len(times)-1].Sub(times[0]).Seconds())
 	fmt.Printf("  peak heap   %8.1f MB (table %.1f MB)\n", peakHeapMB(), float64(rows*cols*8)/1e6)
 	fmt.Printf("certificate %.4f (%s)\n", m.Certificate.RiskBound, m.Certificate.Family)
