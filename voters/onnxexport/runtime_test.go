@@ -25,7 +25,7 @@ import (
 // (.ci/run installs both), where it fails.
 
 // missingTool skips t, or fails it under CI=true.
-func missingTool(t *testing.T, format string, args ...any) {
+func missingTool(t testing.TB, format string, args ...any) {
 	t.Helper()
 	if os.Getenv("CI") == "true" {
 		t.Fatalf(format, args...)
@@ -42,7 +42,7 @@ var (
 // testdataDir returns the module's testdata folder, found from go.mod (`go
 // env GOMOD`): the Node packages and the benchmark sets live there, beside
 // the other shared fixtures.
-func testdataDir(t *testing.T) string {
+func testdataDir(t testing.TB) string {
 	t.Helper()
 	rootOnce.Do(func() {
 		var out []byte
@@ -56,7 +56,7 @@ func testdataDir(t *testing.T) string {
 }
 
 // onnxTestdata returns testdata/onnx: run.js, check.py and the Node packages.
-func onnxTestdata(t *testing.T) string { return filepath.Join(testdataDir(t), "onnx") }
+func onnxTestdata(t testing.TB) string { return filepath.Join(testdataDir(t), "onnx") }
 
 // nodeRuntime returns the folder of run.js, or skips (fails under CI).
 func nodeRuntime(t *testing.T) string {
