@@ -9,6 +9,7 @@ require (
 	github.com/spf13/pflag v1.1.0
 	gonum.org/v1/gonum v0.17.0
 	gonum.org/v1/plot v0.17.0
+	google.golang.org/protobuf v1.36.12
 )
 
 require (
@@ -27,5 +28,4 @@ require (
 	golang.org/x/term v0.44.0 // indirect
 	golang.org/x/text v0.28.0 // indirect
 	golang.org/x/tools v0.36.0 // indirect
-	google.golang.org/protobuf v1.36.12 // indirect
 )
