@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"slices"
+	"strconv"
 	"strings"
 
 	"google.golang.org/protobuf/proto"
@@ -273,8 +274,8 @@ func build(v *voters.Vote, schema []voters.ColumnSpec, opts Options) (*pb.ModelP
 	k := len(v.Classes)
 	nums, cats, rest := order(v)
 
-	// levels[j] lists the levels the vote names in categorical column j,
-	// sorted: the LabelEncoder's keys, their index the code.
+	// levels[column] lists the levels the vote names in a categorical
+	// column, sorted: the LabelEncoder's keys, their index the code.
 	levels := make(map[string][]string)
 	for _, vi := range append(append([]int{}, cats...), rest...) {
 		switch s := v.Voters[vi].(type) {
@@ -410,6 +411,11 @@ func build(v *voters.Vote, schema []voters.ColumnSpec, opts Options) (*pb.ModelP
 	margin := g.op("Sub", []string{bestTotal, second})
 	label := g.op("Gather", []string{g.str("class_names", []int64{int64(k)}, v.Classes...), best}, attrInt("axis", 0))
 
+	quoted := make([]string, k)
+	for c, name := range v.Classes {
+		quoted[c] = strconv.Quote(name)
+	}
+	classList := "[" + strings.Join(quoted, ", ") + "]"
 	outs := []struct {
 		name, from string
 		elem       int32
@@ -417,9 +423,9 @@ func build(v *voters.Vote, schema []voters.ColumnSpec, opts Options) (*pb.ModelP
 		doc        string
 	}{
 		{OutputClass, label, tString, []dim{rows}, "the vote's class name"},
-		{OutputIndex, best, tInt64, []dim{rows}, "the vote's class, as an index into the classes (metadata key vote_classes lists them in order)"},
+		{OutputIndex, best, tInt64, []dim{rows}, "the vote's class as an index into the classes " + classList},
 		{OutputMargin, margin, tDouble, []dim{rows}, "the winning class's total weight minus the runner-up's; 0 is a tie, which goes to the lower class index"},
-		{OutputTotals, totals, tDouble, []dim{rows, {size: int64(k)}}, "each class's total weight, classes in index order"},
+		{OutputTotals, totals, tDouble, []dim{rows, {size: int64(k)}}, "each class's total weight, classes in the order " + classList},
 	}
 	var outputs []*pb.ValueInfoProto
 	for _, o := range outs {
