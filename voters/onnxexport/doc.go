@@ -19,8 +19,8 @@
 //
 // One tensor per column of the schema, named as the column, shape [N] (N
 // rows of a batch). A numeric column is a double tensor, NaN where the cell
-// is missing; +Inf and -Inf are values like any other (above and at or
-// below every threshold). A categorical column is a string tensor holding
+// is missing; +Inf and -Inf are values like any other (+Inf is above every
+// threshold, -Inf below). A categorical column is a string tensor holding
 // the cell's text; the empty string is a missing cell, and a text that no
 // voter names is an unseen category (Inputs lists them).
 //
