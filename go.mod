@@ -9,6 +9,7 @@ require (
 	github.com/spf13/pflag v1.1.0
 	gonum.org/v1/gonum v0.17.0
 	gonum.org/v1/plot v0.17.0
+	google.golang.org/protobuf v1.36.12
 )
 
 require (
