@@ -19,6 +19,9 @@ const (
 	// OfUnlabelledErrorRate: the error rate on the unlabelled rest of a
 	// finite population.
 	OfUnlabelledErrorRate = "unlabelled-error-rate"
+	// OfMeanLoss: the expected value of a loss in [0, 1] of one fixed
+	// classifier (a cost scaled by its largest value).
+	OfMeanLoss = "mean-loss"
 )
 
 // Bound is one bound's value and the arithmetic that made it, so a

@@ -166,3 +166,36 @@ func lchoose(a, b int) float64 {
 	z, _ := math.Lgamma(float64(a-b) + 1)
 	return x - y - z
 }
+
+// MeanLossBound bounds the expected value of a loss in [0, 1] of one
+// classifier fixed before the rows were drawn, after a mean loss of mean on
+// n fresh i.i.d. rows: with probability at least 1-delta,
+//
+//	E[loss] <= kl^-1_up(mean, ln(1/delta) / n).
+//
+// It is Chernoff's bound in its kl form (Langford 2005, JMLR, "Tutorial on
+// practical prediction theory", the Chernoff form of the test-set bound),
+// which holds for any loss in [0, 1] and not only for 0/1 errors: the
+// moment generating function of a [0, 1] variable is at most that of the
+// Bernoulli variable with the same mean (Hoeffding 1963, JASA, section 4;
+// from memory), so the Bernoulli tail bound carries over. For 0/1 losses
+// TestSetBound is tighter; with no loss at all both give 1 - delta^(1/n).
+// Value bounds the expected loss. Terms: mean, n, budget (ln(1/delta)/n).
+func MeanLossBound(mean float64, n int, delta float64) (Bound, error) {
+	if err := checkDelta(delta); err != nil {
+		return Bound{}, fmt.Errorf("mean-loss bound: %w", err)
+	}
+	if n < 1 {
+		return Bound{}, fmt.Errorf("mean-loss bound: n = %d, want at least 1: %w", n, ErrRange)
+	}
+	if err := checkRate("mean loss", mean); err != nil {
+		return Bound{}, fmt.Errorf("mean-loss bound: %w", err)
+	}
+	e := -math.Log(delta) / float64(n)
+	v, err := KLInverseUpper(mean, e)
+	if err != nil {
+		return Bound{}, fmt.Errorf("mean-loss bound: %w", err)
+	}
+	return Bound{Name: "mean-loss", Of: OfMeanLoss, Value: v, Delta: delta, M: n,
+		Terms: []Term{{"mean", mean}, {"n", float64(n)}, {"budget", e}}}, nil
+}

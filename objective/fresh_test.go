@@ -170,3 +170,59 @@ func TestTestSetLowerBoundScipy(t *testing.T) {
 		t.Errorf("5 errors on 4 rows: %v, want ErrRange", err)
 	}
 }
+
+func TestMeanLossBound(t *testing.T) {
+	cases := []struct {
+		name  string
+		mean  float64
+		n     int
+		delta float64
+	}{
+		{"no loss", 0, 100, 0.05},
+		{"small loss", 0.03, 500, 0.01},
+		{"half", 0.5, 40, 0.1},
+		{"all lost", 1, 10, 0.05},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			b, err := MeanLossBound(c.mean, c.n, c.delta)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if b.Value < c.mean {
+				t.Errorf("bound %v below the mean %v", b.Value, c.mean)
+			}
+			if c.mean == 0 {
+				// kl^-1_up(0, e) = 1 - exp(-e) (FIELD-GUIDE.md), and with
+				// e = ln(1/delta)/n this is 1 - delta^(1/n), the exact
+				// binomial bound for no errors (Langford 2005).
+				want := 1 - math.Pow(c.delta, 1/float64(c.n))
+				if math.Abs(b.Value-want) > 1e-12 {
+					t.Errorf("no loss: got %v, want 1 - delta^(1/n) = %v", b.Value, want)
+				}
+			}
+			// For 0/1 losses the binomial inversion is the tighter of the
+			// two (Chernoff's bound dominates the exact tail; Langford 2005).
+			k := int(math.Round(c.mean * float64(c.n)))
+			ts, err := TestSetBound(k, c.n, c.delta)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if b.Value < ts.Value-1e-12 {
+				t.Errorf("kl form %v below the binomial bound %v", b.Value, ts.Value)
+			}
+		})
+	}
+	for _, bad := range []struct {
+		name  string
+		mean  float64
+		n     int
+		delta float64
+	}{{"negative mean", -0.1, 10, 0.05}, {"mean over 1", 1.5, 10, 0.05}, {"no rows", 0.1, 0, 0.05}, {"delta 1", 0.1, 10, 1}} {
+		t.Run(bad.name, func(t *testing.T) {
+			if _, err := MeanLossBound(bad.mean, bad.n, bad.delta); err == nil {
+				t.Error("no error")
+			}
+		})
+	}
+}

@@ -63,9 +63,33 @@ type Certificate struct {
 	Vote string `json:"vote"`
 	// CertifyRows is m, the number of rows every bound was computed on.
 	CertifyRows int `json:"certify_rows"`
-	// Families is the ledger: each family was computed at Delta divided by
-	// their number, since the smallest is picked after seeing them all.
+	// Families is the ledger's families: each line of the ledger (the
+	// families, the per-class certificates, the cost certificate) gets
+	// Delta divided by their number, since the smallest family is picked
+	// after seeing them all and all the certificates hold at once.
 	Families []Family `json:"families"`
+	// PerClass bounds the shipped vote's error rate within each class.
+	PerClass *ClassCertificates `json:"per_class"`
+	// Cost, with a cost matrix (Config.Costs), bounds the shipped vote's
+	// expected cost per row.
+	Cost *CostCertificate `json:"cost,omitempty"`
+}
+
+// Spent sums the delta shares of every line of the ledger: the families,
+// the per-class certificates and the cost certificate. All the
+// certificates hold at once with probability at least 1 - Spent().
+func (c Certificate) Spent() float64 {
+	var s float64
+	for _, f := range c.Families {
+		s += f.Delta
+	}
+	if c.PerClass != nil {
+		s += c.PerClass.Delta
+	}
+	if c.Cost != nil {
+		s += c.Cost.Delta
+	}
+	return s
 }
 
 // Family is one line of the ledger.
@@ -150,9 +174,10 @@ func empirical(r rates, q, prior []float64, voteErrs int, binary bool) Empirical
 }
 
 // certify computes every family that applies (only the one named, when
-// only is not "") and picks the smallest; each family gets an equal share
-// of delta.
-func certify(delta float64, e Empirical, held []heldOut, classes int, only string) (Certificate, error) {
+// only is not "") and picks the smallest. The ledger has a line for each
+// family and extra lines for the certificates added by ship (per class,
+// cost); each line gets an equal share of delta.
+func certify(delta float64, e Empirical, held []heldOut, classes int, only string, extra int) (Certificate, error) {
 	type family struct {
 		name, vote string
 		bound      func(d float64) (objective.Bound, error)
@@ -184,7 +209,7 @@ func certify(delta float64, e Empirical, held []heldOut, classes int, only strin
 			return Certificate{}, fmt.Errorf("family %q does not apply here", only)
 		}
 	}
-	share := delta / float64(len(fams))
+	share := delta / float64(len(fams)+extra)
 	c := Certificate{Delta: delta, CertifyRows: e.M, RiskBound: math.Inf(1)}
 	for _, f := range fams {
 		line := Family{Name: f.name, Delta: share, Vote: f.vote, Value: 1}

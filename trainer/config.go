@@ -65,6 +65,10 @@ type Config struct {
 	Family string
 	// MaxIterations bounds each optimiser run. Default 1000.
 	MaxIterations int
+	// Costs, if not nil, is a cost matrix over the label's classes (every
+	// class, in any order): the certificate then also bounds the shipped
+	// vote's expected cost (CostCertificate). Default nil: no cost bound.
+	Costs *CostMatrix
 	// Progress, if not nil, is told when each stage starts.
 	Progress func(stage string)
 	// Warn, if not nil, receives warnings: each column whose kind the

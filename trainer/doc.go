@@ -17,8 +17,17 @@
 // families (first order, tandem, C-bound for two classes, Chebyshev-Cantelli,
 // and a hold-out family that certifies the vote fitted on the prior rows
 // with the binomial test-set bound); since the smallest is chosen after all
-// are seen, each is computed at delta divided by the number of families. m
-// in every bound is the number of certify rows.
+// are seen, and the per-class (and cost) certificates must hold with it,
+// each line of the ledger is computed at delta divided by the number of
+// lines. m in every bound is the number of certify rows.
+//
+// # Model files a reviewer can trust
+//
+// Every read of a model file (DecodeModel, ReadModelFile) recomputes each
+// ledger entry from its stored terms, checks that the certificate is what
+// the ledger says, and checks a SHA-256 content hash (AuditLedger,
+// Integrity); VerifyData redoes the whole certificate from the training
+// table and the stored settings.
 //
 // # Optimiser
 //

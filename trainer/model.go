@@ -16,13 +16,14 @@ import (
 )
 
 // Version is the tool version recorded in every model file.
-const Version = "0.2.0"
+const Version = "0.3.0"
 
 // ModelFormat is the version of the model file layout this package writes
-// and the only one it reads. Format 2 holds the vote as one object and the
-// pool's resolved settings; format 1 files (surety 0.1.0) are refused with
-// a message that says to retrain.
-const ModelFormat = 2
+// and the only one it reads. Format 3 adds the per-class (and cost)
+// certificates to the ledger and the content hash (integrity); format 2
+// held the vote as one object and the pool's resolved settings. Older
+// files are refused with a message that says to retrain.
+const ModelFormat = 3
 
 // Model is a trained vote with its certificate and provenance: what a model
 // file holds.
@@ -70,6 +71,10 @@ type Provenance struct {
 	// at delta, which holds only for a setting fixed before the sweep.
 	SweepSettings int  `json:"sweep_settings,omitempty"`
 	SweepSelected bool `json:"sweep_selected,omitempty"`
+	// Family is Config.Family: the one family computed, or "" for all.
+	Family string `json:"family,omitempty"`
+	// MaxIterations is the optimiser's bound on its iterations, as used.
+	MaxIterations int `json:"max_iterations"`
 }
 
 // SweepNote says, for a model that came from a sweep, what its certificate
@@ -99,11 +104,17 @@ type modelFile struct {
 	Empirical   Empirical           `json:"empirical"`
 	Provenance  Provenance          `json:"provenance"`
 	Vote        *voters.Vote        `json:"vote"`
+	Integrity   *Integrity          `json:"integrity"`
 }
 
-// MarshalJSON writes the model file layout.
+// MarshalJSON writes the model file layout, with the content hash of m.
 func (m *Model) MarshalJSON() ([]byte, error) {
+	in, err := integrityOf(m)
+	if err != nil {
+		return nil, fmt.Errorf("trainer: hashing the model: %w", err)
+	}
 	return json.Marshal(modelFile{
+		Integrity:   &in,
 		Format:      m.Format,
 		ToolVersion: m.ToolVersion,
 		Label:       m.Label,
@@ -153,7 +164,10 @@ func ReadModelFile(path string) (*Model, error) {
 const simplexTolerance = 1e-9
 
 // DecodeModel reads and validates a model from r: the format version, the
-// weights on the simplex, and every voter reading a column of the schema.
+// weights on the simplex, every voter reading a column of the schema, the
+// ledger recomputed from its own terms (CheckLedger), and the content hash
+// (Integrity). Every command reads models through it, so an edited or
+// damaged file fails wherever it is read.
 func DecodeModel(r io.Reader) (*Model, error) {
 	b, err := io.ReadAll(r)
 	if err != nil {
@@ -167,8 +181,8 @@ func DecodeModel(r io.Reader) (*Model, error) {
 		return nil, fmt.Errorf("not a model file: %w", err)
 	}
 	if head.Format != ModelFormat {
-		if head.Format == 1 {
-			return nil, fmt.Errorf("model format 1 (written by surety %s) is not read by surety %s, which reads format %d: train the model again with this version (the certificate depends on the data, so an old file is not converted)", head.ToolVersion, Version, ModelFormat)
+		if head.Format >= 1 && head.Format < ModelFormat {
+			return nil, fmt.Errorf("model format %d (written by surety %s) is not read by surety %s, which reads format %d: train the model again with this version (the certificate depends on the data, so an old file is not converted)", head.Format, head.ToolVersion, Version, ModelFormat)
 		}
 		return nil, fmt.Errorf("model format %d is not supported (this is version %s, which reads format %d)", head.Format, Version, ModelFormat)
 	}
@@ -219,7 +233,7 @@ func DecodeModel(r io.Reader) (*Model, error) {
 			}
 		}
 	}
-	return &Model{
+	m := &Model{
 		Format:      f.Format,
 		ToolVersion: f.ToolVersion,
 		Label:       f.Label,
@@ -229,7 +243,17 @@ func DecodeModel(r io.Reader) (*Model, error) {
 		Certificate: f.Certificate,
 		Empirical:   f.Empirical,
 		Provenance:  f.Provenance,
-	}, nil
+	}
+	// The ledger first, so that an edited number is named as such; then
+	// the hash, which catches what the ledger cannot (voters, weights,
+	// schema, classes).
+	if err := m.CheckLedger(); err != nil {
+		return nil, err
+	}
+	if err := checkIntegrity(f.Integrity, m); err != nil {
+		return nil, err
+	}
+	return m, nil
 }
 
 // ReadOptions returns the options that read a file for this model: the

@@ -122,7 +122,7 @@ func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult,
 		if err != nil {
 			return nil, fmt.Errorf("trainer: sweep: setting %s: %w", s, err)
 		}
-		cert, err := certify(res.SelectionDelta, f.emp, f.held(), len(p.t.Classes), p.cfg.Family)
+		cert, err := certify(res.SelectionDelta, f.emp, f.held(), len(p.t.Classes), p.cfg.Family, p.extraLines())
 		if err != nil {
 			return nil, fmt.Errorf("trainer: sweep: setting %s: %w", s, err)
 		}
@@ -141,16 +141,38 @@ func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult,
 			best, bestCert, res.Selected = f, cert, i
 		}
 	}
-	sel := *best.model
-	best.model = &sel
-	best.ship(bestCert)
+	sel, err := p.recertifyAs(best, bestCert)
+	if err != nil {
+		return nil, err
+	}
 	sel.Certificate.Delta = p.cfg.Delta
-	sel.Provenance.SweepSelected = true
-	res.SelectedModel = &sel
+	res.SelectedModel = sel
 	row := res.Rows[res.Selected]
 	res.Statement = fmt.Sprintf("Of %d settings, %s has the smallest certificate. Because it was chosen after seeing all %d, its certificate is recomputed at delta / %d = %.4g: %s (at delta = %g alone it would be %s, which holds only for a setting fixed in advance).",
 		k, row.Name, k, k, res.SelectionDelta, Percent(row.SelectionCertificate, true), p.cfg.Delta, Percent(row.Certificate, true))
 	return res, nil
+}
+
+// recertify certifies a fit again at delta d, as a sweep's selection is
+// (a copy of its model, marked selected), shipping the vote the winning
+// family certifies there.
+func (p *Prepared) recertify(f *fitted, d float64) (*Model, error) {
+	cert, err := certify(d, f.emp, f.held(), len(p.t.Classes), p.cfg.Family, p.extraLines())
+	if err != nil {
+		return nil, fmt.Errorf("trainer: %w", err)
+	}
+	return p.recertifyAs(f, cert)
+}
+
+func (p *Prepared) recertifyAs(f *fitted, cert Certificate) (*Model, error) {
+	sel := *f.model
+	g := *f
+	g.model = &sel
+	if err := g.ship(p, cert); err != nil {
+		return nil, err
+	}
+	sel.Provenance.SweepSelected = true
+	return &sel, nil
 }
 
 // Sweep prepares t with cfg and sweeps the settings.

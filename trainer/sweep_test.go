@@ -63,10 +63,7 @@ func TestSweepSelectsHonestly(t *testing.T) {
 		t.Errorf("selected model: bound %v delta %v K %d, want %v 0.1 %d",
 			sel.Certificate.RiskBound, sel.Certificate.Delta, sel.Provenance.SweepSettings, res.Rows[res.Selected].SelectionCertificate, res.K)
 	}
-	var shares float64
-	for _, f := range sel.Certificate.Families {
-		shares += f.Delta
-	}
+	shares := sel.Certificate.Spent()
 	if math.Abs(shares-res.SelectionDelta) > 1e-15 {
 		t.Errorf("selected ledger's deltas sum to %v, want delta / K = %v", shares, res.SelectionDelta)
 	}

@@ -71,6 +71,13 @@ type Prepared struct {
 	// (the boosted vote, the full linear voter alone), fixed on the prior
 	// rows, with their certify-row errors and margins.
 	fixed []shipVote
+	// certClassRows counts the certify rows of each class; classErrs, once
+	// a posterior ships, each voter's errors among each class's certify
+	// rows (classVoterErrs).
+	certClassRows []int
+	classErrs     [][]int64
+	// costs is Config.Costs in the order of the table's classes, or nil.
+	costs *CostMatrix
 }
 
 // Prepare splits t (datasets.RandomSplit: a uniform random subset of the
@@ -123,6 +130,16 @@ func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, err
 		return nil, err
 	}
 
+	if cfg.Costs != nil {
+		if p.costs, err = cfg.Costs.forClasses(t.Classes); err != nil {
+			return nil, err
+		}
+	}
+	p.certClassRows = make([]int, len(t.Classes))
+	for _, r := range p.certRows {
+		p.certClassRows[t.Label[r]]++
+	}
+
 	p.stage("pool")
 	rng := rand.New(rand.NewPCG(cfg.Seed, 0x9001))
 	p.pool, err = voters.BuildPool(t, p.priorRows, cfg.Pool, rng)
@@ -164,7 +181,7 @@ func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, err
 	}
 	fixed = append(fixed, shipVote{vote: VoteBoosted, q: boostWeights(votes, y, len(t.Classes), voterGroups(p.pool.Voters), cfg.Seed)})
 	for _, v := range fixed {
-		if v.margins, v.errs, err = p.signedMargins(v.q); err != nil {
+		if v, err = p.score(v.vote, v.q); err != nil {
 			return nil, err
 		}
 		p.fixed = append(p.fixed, v)
@@ -267,13 +284,16 @@ func (p *Prepared) Fit(ctx context.Context, s Setting) (*Model, error) {
 	return f.model, nil
 }
 
-// shipVote is a vote a family may ship, with its errors and signed
-// margins on the certify rows.
+// shipVote is a vote a family may ship, with its errors, signed margins,
+// errors by true class and (with a cost matrix) summed cost on the certify
+// rows.
 type shipVote struct {
-	vote    string
-	q       []float64
-	errs    int
-	margins []float64
+	vote      string
+	q         []float64
+	errs      int
+	margins   []float64
+	classErrs []int
+	costSum   float64
 }
 
 // fitted is a Fit's model and what recertifying it at another delta needs:
@@ -339,12 +359,12 @@ func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
 	}
 
 	p.stage("certify")
-	post := shipVote{vote: VotePosterior, q: q}
-	if post.margins, post.errs, err = p.signedMargins(q); err != nil {
+	post, err := p.score(VotePosterior, q)
+	if err != nil {
 		return nil, err
 	}
-	hold := shipVote{vote: VotePriorRows, q: holdQ}
-	if hold.margins, hold.errs, err = p.signedMargins(holdQ); err != nil {
+	hold, err := p.score(VotePriorRows, holdQ)
+	if err != nil {
 		return nil, err
 	}
 	// On a tie the first family listed ships: the full linear voter alone,
@@ -352,7 +372,7 @@ func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
 	// advance, simplest first).
 	f := &fitted{votes: append(append([]shipVote{post}, p.fixed...), hold)}
 	f.emp = empirical(p.certRates, q, prior, post.errs, len(t.Classes) == 2)
-	cert, err := certify(cfg.Delta, f.emp, f.held(), len(t.Classes), cfg.Family)
+	cert, err := certify(cfg.Delta, f.emp, f.held(), len(t.Classes), cfg.Family, p.extraLines())
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
@@ -379,46 +399,82 @@ func (p *Prepared) fit(ctx context.Context, s Setting) (*fitted, error) {
 			Pool:          pool.Config,
 			Optimizer:     opt,
 			KindChanges:   p.kindChanges,
+			Family:        cfg.Family,
+			MaxIterations: cfg.MaxIterations,
 		},
 	}
-	f.ship(cert)
+	if err := f.ship(p, cert); err != nil {
+		return nil, err
+	}
 	return f, nil
 }
 
+// extraLines is the number of ledger lines besides the families: the
+// per-class certificates, and the cost certificate when there are costs.
+func (p *Prepared) extraLines() int {
+	if p.costs != nil {
+		return 2
+	}
+	return 1
+}
+
 // ship sets the model's certificate and the vote its family certifies,
-// with that vote's empirical error and margins.
-func (f *fitted) ship(cert Certificate) {
+// with that vote's empirical error and margins, and the per-class and cost
+// certificates of that vote at the ledger's share.
+func (f *fitted) ship(p *Prepared, cert Certificate) error {
 	m := f.model
-	m.Certificate = cert
-	m.Empirical = f.emp
 	v := f.votes[0]
 	for _, c := range f.votes {
 		if c.vote == cert.Vote {
 			v = c
 		}
 	}
+	share := cert.Families[0].Delta
+	cc, err := p.classCertificates(share, cert.Families, v, f.emp.KL)
+	if err != nil {
+		return err
+	}
+	cert.PerClass = cc
+	if p.costs != nil {
+		cert.Cost = p.costCertificate(share, cert.Families, v, cert.RiskBound)
+	}
+	m.Certificate = cert
+	m.Empirical = f.emp
 	m.Empirical.VoteError = float64(v.errs) / float64(f.emp.M)
 	m.Vote = &voters.Vote{Voters: m.Vote.Voters, Weights: slices.Clone(v.q), Classes: m.Vote.Classes}
 	m.Empirical.Margins = marginHistogram(v.margins)
+	return nil
 }
 
-// signedMargins predicts the certify rows with weights w and returns each
-// row's margin, negated where the vote is wrong (a tie, margin 0, is
-// wrong), and the number of errors.
-func (p *Prepared) signedMargins(w []float64) ([]float64, int, error) {
+// score predicts the certify rows with weights w and returns the vote
+// with each row's margin, negated where the vote is wrong (a tie, margin
+// 0, is wrong), its errors, in all and by true class, and its summed cost
+// when there is a cost matrix.
+func (p *Prepared) score(vote string, w []float64) (shipVote, error) {
+	s := shipVote{vote: vote, q: w, classErrs: make([]int, len(p.t.Classes))}
 	v := &voters.Vote{Voters: p.pool.Voters, Weights: w, Classes: p.pool.Classes}
 	cls, margins, err := v.Predict(p.t, p.certRows)
 	if err != nil {
-		return nil, 0, fmt.Errorf("trainer: %w", err)
+		return s, fmt.Errorf("trainer: %w", err)
 	}
-	errs := 0
 	for i, r := range p.certRows {
-		if margins[i] == 0 || cls[i] != p.t.Label[r] {
-			errs++
+		y := p.t.Label[r]
+		wrong := margins[i] == 0 || cls[i] != y
+		if wrong {
+			s.errs++
+			s.classErrs[y]++
 			margins[i] = -margins[i]
 		}
+		if p.costs != nil {
+			j := cls[i]
+			if margins[i] == 0 {
+				j = -1
+			}
+			s.costSum += p.costs.rowCost(y, j)
+		}
 	}
-	return margins, errs, nil
+	s.margins = margins
+	return s, nil
 }
 
 // rates are a Stats' counts divided by its row count, as the objectives

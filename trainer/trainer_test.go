@@ -4,11 +4,13 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"strings"
 	"testing"
 
@@ -231,7 +233,8 @@ func TestDecodeModelRejects(t *testing.T) {
 
 // The promise of the product: over repeated draws of the data, the
 // certificate at delta = 0.1 is below the true error in at most a delta
-// share of runs. With 300 runs, the count of failures is binomial with
+// share of runs, and so is any certificate of the ledger (overall, each
+// class's error rate, the expected cost for a cost matrix of our own). With 300 runs, the count of failures is binomial with
 // p <= 0.1; allowing 0.1 + 3 standard deviations (3 sqrt(0.1*0.9/300) =
 // 0.052, common practice, no source) makes a false alarm rare. The true
 // error is measured on 50,000 fresh rows from the same generator, whose own
@@ -250,19 +253,37 @@ func TestCoverage(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	fails := 0
+	// A cost matrix of our own: a missed leak costs 20, a false alarm 1.
+	costs := &CostMatrix{Classes: []string{"leak", "sound"}, Costs: [][]float64{{0, 20}, {1, 0}}}
+	fails, classFails, costFails, anyFails := 0, 0, 0, 0
 	for r := range runs {
 		tab := demoTable(t, rows, uint64(r))
-		m, err := Train(context.Background(), tab, Config{Seed: uint64(r), Delta: delta, Pool: voters.PoolConfig{Thresholds: 8, LinearVoters: intp(4)}})
+		m, err := Train(context.Background(), tab, Config{Seed: uint64(r), Delta: delta, Costs: costs, Pool: voters.PoolConfig{Thresholds: 8, LinearVoters: intp(4)}})
 		if err != nil {
 			t.Fatal(err)
 		}
-		errs, err := m.CountErrors(fresh)
+		truth, err := trueRates(m, fresh, costs)
 		if err != nil {
 			t.Fatal(err)
 		}
-		if float64(errs)/float64(fresh.Rows) > m.Certificate.RiskBound {
+		wrong := false
+		if truth.errorRate > m.Certificate.RiskBound {
 			fails++
+			wrong = true
+		}
+		for c, cb := range m.Certificate.PerClass.Classes {
+			if truth.classRates[c] > cb.Value {
+				classFails++
+				wrong = true
+				break
+			}
+		}
+		if truth.cost > m.Certificate.Cost.Value {
+			costFails++
+			wrong = true
+		}
+		if wrong {
+			anyFails++
 		}
 		// Empirical vote error <= 2 x empirical Gibbs risk on every run
 		// (Markov's inequality, pointwise; e.g. Langford & Shawe-Taylor 2002).
@@ -275,7 +296,61 @@ func TestCoverage(t *testing.T) {
 	if rate := float64(fails) / runs; rate > limit {
 		t.Errorf("certificate below the true error in %d of %d runs (%.3f > %.3f)", fails, runs, rate, limit)
 	}
-	t.Logf("certificate below the true error in %d of %d runs", fails, runs)
+	// Every certificate of the ledger holds at once with probability at
+	// least 1 - delta (the shares sum to delta), so the runs where any of
+	// them (overall, either class, cost) is below its true value obey the
+	// same limit.
+	if rate := float64(anyFails) / runs; rate > limit {
+		t.Errorf("some certificate below its true value in %d of %d runs (%.3f > %.3f)", anyFails, runs, rate, limit)
+	}
+	t.Logf("certificate below the true error in %d of %d runs; a per-class bound below its class's true error in %d; the cost bound below the true cost in %d; any of them in %d",
+		fails, runs, classFails, costFails, anyFails)
+}
+
+// truth is a model's true error rate, per-class error rates and mean cost,
+// measured on fresh rows.
+type truth struct {
+	errorRate  float64
+	classRates []float64
+	cost       float64
+}
+
+// trueRates counts m's errors (ties are errors), by class, and its mean
+// cost for costs (in the model's class order) on the fresh table.
+func trueRates(m *Model, fresh *datasets.Table, costs *CostMatrix) (truth, error) {
+	c, err := costs.forClasses(m.Classes)
+	if err != nil {
+		return truth{}, err
+	}
+	if !slices.Equal(fresh.Classes, m.Classes) {
+		return truth{}, fmt.Errorf("fresh classes %v, model classes %v", fresh.Classes, m.Classes)
+	}
+	cls, margins, err := m.Predict(fresh)
+	if err != nil {
+		return truth{}, err
+	}
+	k := len(m.Classes)
+	rows, errs := make([]int, k), make([]int, k)
+	var wrong int
+	var cost float64
+	for r, y := range fresh.Label {
+		// fresh's classes are the model's (both sorted, both classes seen).
+		rows[y]++
+		j := cls[r]
+		if margins[r] == 0 {
+			j = -1
+		}
+		if j != y {
+			errs[y]++
+			wrong++
+		}
+		cost += c.rowCost(y, j)
+	}
+	tr := truth{errorRate: float64(wrong) / float64(fresh.Rows), cost: cost / float64(fresh.Rows), classRates: make([]float64, k)}
+	for i := range k {
+		tr.classRates[i] = float64(errs[i]) / float64(max(rows[i], 1))
+	}
+	return tr, nil
 }
 
 func intp(v int) *int { return &v }
@@ -304,10 +379,8 @@ func TestFamilyFixedInAdvance(t *testing.T) {
 			if len(cert.Families) != c.lines {
 				t.Fatalf("%d ledger lines, want %d", len(cert.Families), c.lines)
 			}
-			var sum float64
-			for _, f := range cert.Families {
-				sum += f.Delta
-			}
+			// The family and the per-class line share delta.
+			sum := cert.Spent()
 			if math.Abs(sum-cert.Delta) > 1e-15 || (c.family != "" && cert.Family != c.family) {
 				t.Errorf("shares sum to %v of %v; family %s", sum, cert.Delta, cert.Family)
 			}

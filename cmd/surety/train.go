@@ -24,6 +24,7 @@ type trainOptions struct {
 	fit    fitFlags
 	train  trainFlags
 	out    string
+	costs  string
 	output outputFlags
 }
 
@@ -32,6 +33,7 @@ func (o *trainOptions) AddFlags(fs *pflag.FlagSet) {
 	o.fit.AddFlags(fs)
 	o.train.AddFlags(fs)
 	fs.StringVar(&o.out, "out", "model.json", "model `file` to write")
+	fs.StringVar(&o.costs, "costs", "", "cost matrix `file` (rows: true class, columns: decided class; see the README): also bound the vote's expected cost")
 	o.output.AddFlags(fs)
 }
 
@@ -40,6 +42,13 @@ func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 		return usagef("unexpected argument %q", args[0])
 	}
 	cfg := o.train.config(&o.fit)
+	if o.costs != "" {
+		c, err := trainer.ReadCostsFile(o.costs)
+		if err != nil {
+			return err
+		}
+		cfg.Costs = c
+	}
 	t, err := o.data.read(e, datasets.ReadOptions{DeferKinds: true})
 	if err != nil {
 		return err
@@ -160,8 +169,17 @@ func printCertificate(w io.Writer, m *trainer.Model) {
 	if k := m.Provenance.SweepSettings; k > 0 && m.Provenance.SweepSelected {
 		share = fmt.Sprintf("delta %g / %d settings = %.4g", c.Delta, k, c.Delta/float64(k))
 	}
-	fmt.Fprintf(w, "\nledger: %s split over %d families (the smallest bound is kept), m = %d certify rows, KL(Q||P) = %.4f\n",
-		share, len(c.Families), c.CertifyRows, m.Empirical.KL)
+	lines, also := len(c.Families), ""
+	if c.PerClass != nil {
+		lines++
+		also = " and the per-class certificates"
+	}
+	if c.Cost != nil {
+		lines++
+		also = ", the per-class and the cost certificates"
+	}
+	fmt.Fprintf(w, "\nledger: %s split over %s, %s (the smallest bound is kept)%s, m = %d certify rows, KL(Q||P) = %.4f\n",
+		share, counted(lines, "line", "lines"), counted(len(c.Families), "family", "families"), also, c.CertifyRows, m.Empirical.KL)
 	fmt.Fprintf(w, "  %-20s %-11s %-10s %s\n", "family", "vote", "delta", "bound")
 	for _, f := range c.Families {
 		mark := ""
@@ -174,6 +192,7 @@ func printCertificate(w io.Writer, m *trainer.Model) {
 		}
 		fmt.Fprintf(w, "  %-20s %-11s %-10.4g %s%s\n", f.Name, f.Vote, f.Delta, val, mark)
 	}
+	printClassCertificates(w, m)
 	em := m.Empirical
 	fmt.Fprintf(w, "empirical on the certify rows: vote error %s, Gibbs risk %.4f, tandem risk %.4f",
 		pct(em.VoteError), em.GibbsRisk, em.TandemRisk)
@@ -181,6 +200,26 @@ func printCertificate(w io.Writer, m *trainer.Model) {
 		fmt.Fprintf(w, ", disagreement %.4f", *em.Disagreement)
 	}
 	fmt.Fprintln(w)
+}
+
+// printClassCertificates prints the per-class and cost lines of the
+// ledger.
+func printClassCertificates(w io.Writer, m *trainer.Model) {
+	c := m.Certificate
+	if pc := c.PerClass; pc != nil {
+		fmt.Fprintf(w, "  %-20s %-11s %-10.4g (each class delta / %d, each over %s)\n", "per-class", c.Vote, pc.Delta, len(pc.Classes), counted(pc.CandidateVotes, "candidate vote", "candidate votes"))
+		for _, cb := range pc.Classes {
+			val := fmt.Sprintf("error within the class at most %s", trainer.FormatBound(cb.Value))
+			if cb.Reason != "" {
+				val = "none: " + cb.Reason
+			}
+			fmt.Fprintf(w, "    %-18s %5d rows %5d errors (%s)  %s\n", cb.Class, cb.Rows, cb.Errors, pct(float64(cb.Errors)/float64(max(cb.Rows, 1))), val)
+		}
+	}
+	if cc := c.Cost; cc != nil {
+		fmt.Fprintf(w, "  %-20s %-11s %-10.4g expected cost per row at most %.4g (mean on the certify rows %.4g, largest cost %g)\n",
+			"cost", c.Vote, cc.Delta, cc.Value, cc.MeanCost, cc.MaxCost)
+	}
 }
 
 func pct(x float64) string {
@@ -195,4 +234,12 @@ func printCautions(w io.Writer) {
 	for _, c := range trainer.Cautions {
 		fmt.Fprintf(w, "- %s\n", c)
 	}
+}
+
+// counted writes n with the singular or plural noun: "1 line", "8 lines".
+func counted(n int, one, many string) string {
+	if n == 1 {
+		return "1 " + one
+	}
+	return fmt.Sprintf("%d %s", n, many)
 }

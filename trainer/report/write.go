@@ -77,6 +77,8 @@ type view struct {
 	Vacuous      bool
 	Meaning      []string
 	Ledger       []ledgerRow
+	PerClass     []classCertRow
+	ClassNote    string
 	Empirical    [][2]string
 	Data         [][2]string
 	Voters       []voterRow
@@ -91,6 +93,11 @@ type view struct {
 type figure struct {
 	ID, Title, Caption string
 	SVG                template.HTML
+}
+
+// classCertRow is one class's certificate, or the cost certificate.
+type classCertRow struct {
+	Class, Rows, Errors, Delta, Value, Reason string
 }
 
 type ledgerRow struct {
@@ -178,6 +185,21 @@ func buildView(in Input, plots []Plot) view {
 			r.Value = "none"
 		}
 		v.Ledger = append(v.Ledger, r)
+	}
+	if pc := c.PerClass; pc != nil {
+		v.ClassNote = fmt.Sprintf("One ledger line of delta %s covers every class: delta / %d for each of the %d classes, each computed over the %d votes the certificate could have shipped, so that all hold at once with the certificate.",
+			fmtNum(pc.Delta), len(pc.Classes), len(pc.Classes), pc.CandidateVotes)
+		for _, cb := range pc.Classes {
+			r := classCertRow{Class: cb.Class, Rows: strconv.Itoa(cb.Rows), Errors: strconv.Itoa(cb.Errors), Delta: fmtNum(cb.Delta), Value: trainer.FormatBound(cb.Value), Reason: cb.Reason}
+			if cb.Reason != "" {
+				r.Value = "none"
+			}
+			v.PerClass = append(v.PerClass, r)
+		}
+		if cc := c.Cost; cc != nil {
+			v.PerClass = append(v.PerClass, classCertRow{Class: "expected cost per row", Rows: strconv.Itoa(cc.Rows),
+				Errors: "mean " + fmtNum(cc.MeanCost), Delta: fmtNum(cc.Delta), Value: fmtNum(cc.Value), Reason: cc.Reason})
+		}
 	}
 	e := m.Empirical
 	v.Empirical = [][2]string{
