@@ -1,0 +1,31 @@
+-- A weighted majority vote trained by Surety, as one SQL:2003 SELECT.
+-- Model file: sha256 6f8cd49c2cacef96dfd259f94e390158463478ae1e346330f2d54894bc81459e
+-- Label column: approved
+-- Reads table "loans", columns:
+--   "income" numeric
+--   "region" categorical
+-- Missing values are NULL (or NaN in a numeric column). Categories compare as exact text.
+-- Returns "class" (the predicted class), "margin" (its total weight minus the runner-up's; 0 is a tie, which goes to the first class listed), "weight_<class>" (each class's total weight).
+-- Classes, in order: 'no', 'yes, surely'
+SELECT
+  k0 AS "id",
+  CASE WHEN t0 >= t1 THEN 'no' ELSE 'yes, surely' END AS "class",
+  CASE WHEN t0 >= t1 THEN t0 - t1 ELSE t1 - t0 END AS "margin",
+  t0 AS "weight_no",
+  t1 AS "weight_yes, surely"
+FROM (
+  SELECT
+    x0,
+    x1,
+    k0,
+    0 + CASE WHEN x0 > CAST(5.23e+04 AS DOUBLE PRECISION) AND (x0 <= CAST(1.7976931348623157e+308 AS DOUBLE PRECISION) OR -x0 < x0) THEN 0 ELSE CAST(4.5e-01 AS DOUBLE PRECISION) END + CASE WHEN x1 = 'north' THEN 0 ELSE CAST(3.5e-01 AS DOUBLE PRECISION) END + CASE WHEN x1 <> 'south' THEN 0 ELSE CAST(2e-01 AS DOUBLE PRECISION) END AS t0,
+    0 + CASE WHEN x0 > CAST(5.23e+04 AS DOUBLE PRECISION) AND (x0 <= CAST(1.7976931348623157e+308 AS DOUBLE PRECISION) OR -x0 < x0) THEN CAST(4.5e-01 AS DOUBLE PRECISION) ELSE 0 END + CASE WHEN x1 = 'north' THEN CAST(3.5e-01 AS DOUBLE PRECISION) ELSE 0 END + CASE WHEN x1 <> 'south' THEN CAST(2e-01 AS DOUBLE PRECISION) ELSE 0 END AS t1
+  FROM (
+    SELECT
+      CAST("income" AS DOUBLE PRECISION) AS x0,
+      "region" AS x1,
+      "id" AS k0
+    FROM "loans"
+  ) AS q1
+) AS q2
+;
