@@ -37,22 +37,29 @@ func ExampleWrite() {
 	// -- Classes, in order: 'deny', 'approve'
 	// SELECT
 	//   k0 AS "id",
-	//   CASE WHEN t0 >= t1 THEN 'deny' ELSE 'approve' END AS "class",
-	//   CASE WHEN t0 >= t1 THEN t0 - t1 ELSE t1 - t0 END AS "margin"
+	//   CASE WHEN d >= 0 THEN 'deny' ELSE 'approve' END AS "class",
+	//   CASE WHEN d >= 0 THEN d ELSE -d END AS "margin"
 	// FROM (
 	//   SELECT
-	//     x0,
-	//     x1,
 	//     k0,
-	//     0 + CASE WHEN x0 <= CAST(5.23e+04 AS DOUBLE PRECISION) THEN CAST(7.5e-01 AS DOUBLE PRECISION) ELSE 0 END + CASE WHEN x1 <> 'north' THEN CAST(2.5e-01 AS DOUBLE PRECISION) ELSE 0 END AS t0,
-	//     0 + CASE WHEN x0 <= CAST(5.23e+04 AS DOUBLE PRECISION) THEN 0 ELSE CAST(7.5e-01 AS DOUBLE PRECISION) END + CASE WHEN x1 <> 'north' THEN 0 ELSE CAST(2.5e-01 AS DOUBLE PRECISION) END AS t1
+	//     t0,
+	//     t1,
+	//     t0 - t1 AS d
 	//   FROM (
 	//     SELECT
-	//       CAST("income" AS DOUBLE PRECISION) AS x0,
-	//       "region" AS x1,
-	//       "id" AS k0
-	//     FROM "loans"
-	//   ) AS q1
-	// ) AS q2
+	//       x0,
+	//       x1,
+	//       k0,
+	//       0 + CASE WHEN x0 <= CAST(5.23e+04 AS DOUBLE PRECISION) THEN CAST(7.5e-01 AS DOUBLE PRECISION) ELSE 0 END + CASE WHEN x1 <> 'north' THEN CAST(2.5e-01 AS DOUBLE PRECISION) ELSE 0 END AS t0,
+	//       0 + CASE WHEN x0 <= CAST(5.23e+04 AS DOUBLE PRECISION) THEN 0 ELSE CAST(7.5e-01 AS DOUBLE PRECISION) END + CASE WHEN x1 <> 'north' THEN 0 ELSE CAST(2.5e-01 AS DOUBLE PRECISION) END AS t1
+	//     FROM (
+	//       SELECT
+	//         CAST("income" AS DOUBLE PRECISION) AS x0,
+	//         "region" AS x1,
+	//         "id" AS k0
+	//       FROM "loans"
+	//     ) AS q1
+	//   ) AS q2
+	// ) AS q3
 	// ;
 }

@@ -389,8 +389,17 @@ func (g *gen) build() {
 	}
 	var name, marg string
 	if k == 2 {
-		name = "CASE WHEN t0 >= t1 THEN " + str(v.Classes[0]) + " ELSE " + str(v.Classes[1]) + " END"
-		marg = "CASE WHEN t0 >= t1 THEN t0 - t1 ELSE t1 - t0 END"
+		// d = t0 - t1 has the sign of t0 - t1 exactly (finite doubles:
+		// a difference is 0 only between equal values, IEEE 754 with
+		// subnormals), and t1 - t0 = -(t0 - t1) exactly (rounding to
+		// nearest is symmetric), so d gives Predict's class and margin
+		// while each total is referenced once: an engine that inlines
+		// nested queries (SQLite does) copies the long sums fewer times.
+		diff := append(append([]string{}, keep...), t...)
+		diff = append(diff, as("t0 - t1", "d"))
+		g.levels = append(g.levels, diff)
+		name = "CASE WHEN d >= 0 THEN " + str(v.Classes[0]) + " ELSE " + str(v.Classes[1]) + " END"
+		marg = "CASE WHEN d >= 0 THEN d ELSE -d END"
 	} else {
 		win := append(append([]string{}, keep...), t...)
 		win = append(win, as(voteClass(t), "cls"))

@@ -176,8 +176,8 @@ func TestWriteLevels(t *testing.T) {
 	if got := strings.Count(sql, "t0 + "); got != 2 {
 		t.Errorf("t0 continues %d times, want 2", got)
 	}
-	if got := strings.Count(sql, "FROM ("); got != 4 {
-		t.Errorf("%d nested queries, want 4 (read, three sum levels, output)", got)
+	if got := strings.Count(sql, "FROM ("); got != 5 {
+		t.Errorf("%d nested queries, want 5 (read, three sum levels, the difference, output)", got)
 	}
 	if strings.Contains(sql, "5e-01") {
 		t.Error("the weight-0 voter is in the SELECT")
