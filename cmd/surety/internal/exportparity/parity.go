@@ -1,4 +1,4 @@
-package exportparity_test
+package exportparity
 
 import (
 	"bytes"
@@ -12,8 +12,6 @@ import (
 	"strings"
 	"testing"
 
-	_ "modernc.org/sqlite"
-
 	"surety/datasets"
 	"surety/datasets/demodata"
 	"surety/datasets/ucidata"
@@ -26,15 +24,34 @@ import (
 // rows back to the table's.
 const rowKey = "row_key"
 
-// openSQLite opens a fresh in-memory SQLite database (modernc.org/sqlite,
-// SQLite compiled to Go; no cgo).
-func openSQLite(t *testing.T) *sql.DB {
+// Engine is an SQL engine to run the parity tests on.
+type Engine struct {
+	// Name names the engine in the test log.
+	Name string
+	// Open opens a fresh, empty database of the engine.
+	Open func() (*sql.DB, error)
+	// Double is the engine's name for a float64 column type.
+	Double string
+	// NaN says the engine stores NaN: half the missing numeric cells then
+	// go in as NaN, half as NULL. Without it every missing cell is NULL.
+	NaN bool
+}
+
+// Run runs every parity test on e: trained models (skipped under -short)
+// and the awkward table.
+func Run(t *testing.T, e Engine) {
+	t.Run("trained", func(t *testing.T) { trained(t, e) })
+	t.Run("awkward", func(t *testing.T) { awkward(t, e) })
+}
+
+// open opens a fresh database of e, closed when the test ends.
+func (e Engine) open(t *testing.T) *sql.DB {
 	t.Helper()
-	db, err := sql.Open("sqlite", ":memory:")
+	db, err := e.Open()
 	if err != nil {
-		t.Fatal(err)
+		t.Fatalf("%s: %v", e.Name, err)
 	}
-	db.SetMaxOpenConns(1) // one connection, so that the in-memory tables stay
+	db.SetMaxOpenConns(1) // one connection, so that in-memory tables stay
 	t.Cleanup(func() { db.Close() })
 	return db
 }
@@ -43,9 +60,9 @@ func openSQLite(t *testing.T) *sql.DB {
 func quote(s string) string { return `"` + strings.ReplaceAll(s, `"`, `""`) + `"` }
 
 // load writes the columns of schema of tab into a new table name, plus
-// rowKey: NaN and missing codes become NULL, infinities stay infinite
-// REAL values.
-func load(t *testing.T, db *sql.DB, name string, tab *datasets.Table, schema []voters.ColumnSpec) {
+// rowKey: missing codes become NULL, NaN becomes NULL (or, in an engine
+// that stores NaN, NaN in every other row), infinities stay infinite.
+func (e Engine) load(t *testing.T, db *sql.DB, name string, tab *datasets.Table, schema []voters.ColumnSpec) {
 	t.Helper()
 	cols := []string{quote(rowKey) + " INTEGER"}
 	idx := make([]int, len(schema))
@@ -56,7 +73,7 @@ func load(t *testing.T, db *sql.DB, name string, tab *datasets.Table, schema []v
 		}
 		typ := "TEXT"
 		if c.Kind == datasets.Numeric {
-			typ = "REAL"
+			typ = e.Double
 		}
 		cols = append(cols, quote(c.Name)+" "+typ)
 	}
@@ -81,6 +98,8 @@ func load(t *testing.T, db *sql.DB, name string, tab *datasets.Table, schema []v
 			switch {
 			case c.Kind == datasets.Numeric && !math.IsNaN(c.Num[r]):
 				args[i+1] = c.Num[r]
+			case c.Kind == datasets.Numeric && e.NaN && r%2 == 0:
+				args[i+1] = math.NaN()
 			case c.Kind == datasets.Categorical && c.Codes[r] != datasets.MissingCode:
 				args[i+1] = c.Levels[c.Codes[r]]
 			}
@@ -237,12 +256,12 @@ func smallPool() voters.PoolConfig {
 	return p
 }
 
-// TestSQLParityTrained exports models that train writes (the certified
+// trained exports models that train writes (the certified
 // vote, and the tandem posterior for a vote of many stumps) on the demo
 // data, golearn's house-votes (categorical, '?' missing) and iris (three
-// classes), and runs them on SQLite over rows the model did not train on
+// classes), and runs them on the engine over rows the model did not train on
 // (the demo) or all the rows (the UCI sets).
-func TestSQLParityTrained(t *testing.T) {
+func trained(t *testing.T, e Engine) {
 	if testing.Short() {
 		t.Skip("trains several models; skipped under -short")
 	}
@@ -263,8 +282,8 @@ func TestSQLParityTrained(t *testing.T) {
 			t.Run(name, func(t *testing.T) {
 				m := train(t, tc.train(t), tc.file, tc.label, family, smallPool())
 				tab := readFor(t, m, tc.predict(t), tc.file)
-				db := openSQLite(t)
-				load(t, db, "rows", tab, m.Columns)
+				db := e.open(t)
+				e.load(t, db, "rows", tab, m.Columns)
 				checkSQL(t, db, "rows", m.Vote, m.Columns, tab)
 			})
 		}
@@ -366,11 +385,11 @@ func awkwardTable(schema []voters.ColumnSpec, vs []*voters.Vote) *datasets.Table
 	return tab
 }
 
-// TestSQLParityAwkward runs a trained vote and hand-made votes built to hit
+// awkward runs a trained vote and hand-made votes built to hit
 // the edges (ties between classes, weights whose sum depends on its order,
 // linear voters whose scores are NaN or infinite) over the awkward rows,
 // in a table named by an SQL keyword.
-func TestSQLParityAwkward(t *testing.T) {
+func awkward(t *testing.T, e Engine) {
 	m := train(t, awkwardCSV(800), "awkward.csv", "y", "tandem", smallPool())
 	certified := train(t, awkwardCSV(800), "awkward.csv", "y", "", smallPool())
 	schema := []voters.ColumnSpec{
@@ -428,8 +447,8 @@ func TestSQLParityAwkward(t *testing.T) {
 		votes = append(votes, h.vote)
 	}
 	tab := awkwardTable(schema, votes)
-	db := openSQLite(t)
-	load(t, db, "group", tab, schema)
+	db := e.open(t)
+	e.load(t, db, "group", tab, schema)
 	t.Run("trained tandem posterior", func(t *testing.T) { checkSQL(t, db, "group", m.Vote, m.Columns, tab) })
 	t.Run("trained certified vote", func(t *testing.T) { checkSQL(t, db, "group", certified.Vote, certified.Columns, tab) })
 	for _, h := range hand {
