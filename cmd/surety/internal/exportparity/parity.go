@@ -114,9 +114,10 @@ func (e Engine) load(t *testing.T, db *sql.DB, name string, tab *datasets.Table,
 }
 
 // checkSQL exports v, runs it over table name (holding tab's rows) and
-// compares every row with v.Predict: the class exactly, the margin and
-// each class's total to the last bit (the SELECT adds the weights in
-// Predict's order), and at least within 1e-9, the tolerance.
+// compares every row with v.Predict: the class exactly and the margin to
+// the last bit (the SELECT adds the weights in Predict's order), so within
+// 1e-9, the tolerance, too. The class totals it returns must give
+// that margin: the winner's total minus the largest other.
 func checkSQL(t *testing.T, db *sql.DB, name string, v *voters.Vote, schema []voters.ColumnSpec, tab *datasets.Table) {
 	t.Helper()
 	var q bytes.Buffer
@@ -157,8 +158,15 @@ func checkSQL(t *testing.T, db *sql.DB, name string, v *voters.Vote, schema []vo
 		}
 		seen[key] = true
 		want := v.Classes[wantClass[key]]
-		// Totals of the classes from the SELECT give the margin too: the
-		// winner's minus the largest other.
+		best, second := slices.Index(v.Classes, class), math.Inf(-1)
+		for c, x := range totals {
+			if c != best {
+				second = max(second, x)
+			}
+		}
+		if best < 0 || totals[best]-second != margin {
+			t.Errorf("row %d: the totals %v do not give class %q and margin %v", key, totals, class, margin)
+		}
 		if class != want || margin != wantMargin[key] || !(math.Abs(margin-wantMargin[key]) <= 1e-9) {
 			bad++
 			if bad <= 5 {
