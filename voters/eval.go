@@ -39,6 +39,7 @@ type catGroup struct {
 }
 
 type catLevel struct {
+	level  string
 	code   uint32
 	stumps []sideVoter
 }
@@ -81,7 +82,14 @@ func newPlan(vs []Voter, keep []bool, k int, labels []int) *plan {
 			c := slices.IndexFunc(grp.cuts, func(c numCut) bool { return c.cut == s.Threshold })
 			if c < 0 {
 				c = len(grp.cuts)
-				grp.cuts = append(grp.cuts, numCut{cut: s.Threshold})
+				// A cut of -0 would put +0 above it in aboveBits (the
+				// sign of -0 - 0), where Stump.Predict has it at or
+				// below; +0 gives both zeros the side Predict gives.
+				cut := s.Threshold
+				if cut == 0 {
+					cut = 0
+				}
+				grp.cuts = append(grp.cuts, numCut{cut: cut})
 			}
 			grp.cuts[c].stumps = append(grp.cuts[c].stumps, sideVoter{vi, s.Below, s.Above, s.MissingBelow})
 			continue
@@ -96,10 +104,15 @@ func newPlan(vs []Voter, keep []bool, k int, labels []int) *plan {
 				p.cats = append(p.cats, catGroup{codes: s.codes})
 			}
 			grp := &p.cats[g]
-			c := slices.IndexFunc(grp.levels, func(c catLevel) bool { return c.code == s.code })
+			// Grouped by the level's text, not its code: every level the
+			// table lacks has the code MissingCode, and grouping those
+			// together would make the order of the sums (so the last bits
+			// of the totals, and the side of a tie) depend on which
+			// levels the table holds.
+			c := slices.IndexFunc(grp.levels, func(c catLevel) bool { return c.level == s.Level })
 			if c < 0 {
 				c = len(grp.levels)
-				grp.levels = append(grp.levels, catLevel{code: s.code})
+				grp.levels = append(grp.levels, catLevel{level: s.Level, code: s.code})
 			}
 			grp.levels[c].stumps = append(grp.levels[c].stumps, sideVoter{vi, s.Equal, s.Other, s.MissingEqual})
 			continue

@@ -187,3 +187,63 @@ func finite(what string, x float64) error {
 	}
 	return nil
 }
+
+// SumOrder returns the indices of the voters of non-zero weight in the
+// order Predict adds their weights to the class totals: the threshold
+// stumps grouped by column (columns in order of their first stump), and
+// within a column by threshold (in order of first appearance), then the
+// category stumps grouped the same way by column and level, then every
+// other voter in pool order. Floating-point addition is not associative,
+// so a scorer that must give Predict's margins and ties bit for bit (an
+// export to SQL) adds the weights in this order. It depends on the vote
+// alone, never on a table.
+func (v *Vote) SumOrder() []int {
+	type group struct {
+		key  string
+		subs [][]int
+		keys []any
+	}
+	var nums, cats []*group
+	find := func(gs *[]*group, key string) *group {
+		for _, g := range *gs {
+			if g.key == key {
+				return g
+			}
+		}
+		g := &group{key: key}
+		*gs = append(*gs, g)
+		return g
+	}
+	add := func(g *group, sub any, vi int) {
+		for i, k := range g.keys {
+			if k == sub {
+				g.subs[i] = append(g.subs[i], vi)
+				return
+			}
+		}
+		g.keys = append(g.keys, sub)
+		g.subs = append(g.subs, []int{vi})
+	}
+	var rest []int
+	for vi, vt := range v.Voters {
+		if vi >= len(v.Weights) || v.Weights[vi] == 0 {
+			continue
+		}
+		switch s := vt.(type) {
+		case *Stump:
+			// Comparing as float64 groups -0 with +0, as newPlan does.
+			add(find(&nums, s.Column), s.Threshold, vi)
+		case *CategoryStump:
+			add(find(&cats, s.Column), s.Level, vi)
+		default:
+			rest = append(rest, vi)
+		}
+	}
+	var out []int
+	for _, g := range append(nums, cats...) {
+		for _, s := range g.subs {
+			out = append(out, s...)
+		}
+	}
+	return append(out, rest...)
+}
