@@ -237,8 +237,17 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 		}
 		width = min(width, len(usable))
 		p.Config.LinearColumns = width
-		sample := make([]int, min(cfg.LinearRows, len(rows)))
-		for range linear {
+		// The draws come first, in order, from rng; the fits, each on its
+		// own draw, then run over goroutines and join in draw order, so the
+		// pool does not depend on their number.
+		type job struct {
+			names  []string
+			sample []int
+			oob    []uint64
+		}
+		jobs := make([]job, linear)
+		for li := range linear {
+			sample := make([]int, min(cfg.LinearRows, len(rows)))
 			perm := rng.Perm(len(usable))[:width]
 			slices.Sort(perm)
 			names := make([]string, width)
@@ -257,12 +266,30 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 			if tail := len(rows) % 64; tail != 0 {
 				oob[len(oob)-1] &= 1<<tail - 1
 			}
-			l, err := FitLinear(t, rows, sample, names, cfg.L2)
-			if err != nil {
-				return nil, fmt.Errorf("voters: build pool: %w", err)
+			jobs[li] = job{names, sample, oob}
+		}
+		fitted := make([]*Linear, linear)
+		errs := make([]error, linear)
+		var next atomic.Int64
+		var wg sync.WaitGroup
+		for range max(1, min(runtime.GOMAXPROCS(0), linear)) {
+			wg.Go(func() {
+				for {
+					li := int(next.Add(1) - 1)
+					if li >= linear {
+						return
+					}
+					fitted[li], errs[li] = FitLinear(t, rows, jobs[li].sample, jobs[li].names, cfg.L2)
+				}
+			})
+		}
+		wg.Wait()
+		for li, l := range fitted {
+			if errs[li] != nil {
+				return nil, fmt.Errorf("voters: build pool: %w", errs[li])
 			}
 			p.Voters = append(p.Voters, l)
-			p.OutOfBag = append(p.OutOfBag, oob)
+			p.OutOfBag = append(p.OutOfBag, jobs[li].oob)
 		}
 	}
 	p.OutOfFold = make([][]int, len(p.Voters), cap(p.OutOfBag))
