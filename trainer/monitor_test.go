@@ -311,3 +311,36 @@ func TestDecodeMonitorLedgerRejects(t *testing.T) {
 		t.Errorf("the untouched ledger: %v", err)
 	}
 }
+
+// The k-th check's limits are the one-sided Clopper-Pearson limits at
+// delta_k / 2. Reference values: scipy.stats.beta.ppf(delta_k/2, e, n-e+1)
+// and beta.ppf(1-delta_k/2, e+1, n-e), scipy 1.10.1 (Debian bookworm),
+// delta_k = delta*6/(pi^2 k^2) computed in Python floats.
+func TestMonitorLimitsMatchScipy(t *testing.T) {
+	cases := []struct {
+		name                string
+		errors, rows, k     int
+		delta, lower, upper float64
+	}{
+		{"check 3, half wrong", 199, 400, 3, 0.05, 0.4234671653055038, 0.5716098256988291},
+		{"check 1", 22, 400, 1, 0.05, 0.03307813279132249, 0.08508294094965375},
+		{"no errors", 0, 300, 2, 0.05, 0, 0.018404772010866464},
+		{"check 50", 5, 100, 50, 0.1, 0.0028939411343451415, 0.2044832265015063},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			lo, up, err := MonitorLimits(c.errors, c.rows, c.k, c.delta)
+			if err != nil {
+				t.Fatal(err)
+			}
+			// scipy's ppf is good to about 1e-12 here; our bisection
+			// stops at 1e-15 on the safe side.
+			if math.Abs(lo.Value-c.lower) > 1e-9 || math.Abs(up.Value-c.upper) > 1e-9 || lo.Value > c.lower+1e-12 || up.Value < c.upper-1e-12 {
+				t.Errorf("limits [%v, %v], scipy [%v, %v]", lo.Value, up.Value, c.lower, c.upper)
+			}
+			if want := c.delta * 6 / (math.Pi * math.Pi * float64(c.k*c.k)) / 2; math.Abs(lo.Delta-want) > 1e-18 || up.Delta != lo.Delta {
+				t.Errorf("delta %v and %v, want %v", lo.Delta, up.Delta, want)
+			}
+		})
+	}
+}
