@@ -1,6 +1,7 @@
 package trainer
 
 import (
+	"errors"
 	"fmt"
 
 	"surety/datasets"
@@ -18,7 +19,20 @@ type CheckConfig struct {
 	// bounds the error rate of the N - n rows not labelled. It must exceed
 	// the number of fresh rows.
 	Population int
+	// AllowTrainingData lets Check run on the very file the model was
+	// trained on (same SHA-256 as the model's provenance), for a
+	// demonstration; the result then says so. By default such a file is
+	// refused with ErrNotFresh.
+	AllowTrainingData bool
 }
+
+// ErrNotFresh is the error Check wraps when the rows it is given are the
+// model's own training file: the certify rows among them were counted for
+// the certificate and the prior rows built the vote, so their error says
+// nothing about new rows. The file is recognised by its SHA-256
+// (datasets.Fingerprint), which the model records: a copy that differs in
+// any byte (gzipped, reordered, a subset) is not recognised.
+var ErrNotFresh = errors.New("its rows are not fresh")
 
 // CheckResult is a vote checked on labelled fresh rows.
 type CheckResult struct {
@@ -39,6 +53,10 @@ type CheckResult struct {
 	// uncertainty.
 	Consistent bool   `json:"consistent"`
 	Verdict    string `json:"verdict"`
+	// TrainingData is true when the rows are the model's own training file,
+	// checked anyway (CheckConfig.AllowTrainingData): the verdict then says
+	// nothing about new rows.
+	TrainingData bool `json:"training_data,omitempty"`
 	// Population, when asked for, bounds the error rate of the unlabelled
 	// rest of the population, at Delta.
 	Population *objective.Bound `json:"population,omitempty"`
@@ -70,7 +88,9 @@ type ClassCheck struct {
 // Check predicts every row of the labelled table t with m's vote and bounds
 // the vote's error rate from those rows alone (the test-set bound,
 // FIELD-GUIDE.md "Certifying on fresh rows"). The rows must not have been
-// used to train m: Check cannot tell.
+// used to train m: Check refuses the training file itself (by its SHA-256,
+// see ErrNotFresh) unless cfg.AllowTrainingData is set, but cannot tell a
+// file that holds some training rows among others.
 func Check(m *Model, t *datasets.Table, cfg CheckConfig) (*CheckResult, error) {
 	if cfg.Delta == 0 {
 		cfg.Delta = DefaultDelta
@@ -86,6 +106,10 @@ func Check(m *Model, t *datasets.Table, cfg CheckConfig) (*CheckResult, error) {
 	}
 	if cfg.Population != 0 && cfg.Population <= t.Rows {
 		return nil, fmt.Errorf("trainer: check: population %d must exceed the %d fresh rows", cfg.Population, t.Rows)
+	}
+	training := t.Fingerprint.SHA256 != "" && t.Fingerprint.SHA256 == m.Provenance.Data.SHA256
+	if training && !cfg.AllowTrainingData {
+		return nil, fmt.Errorf("trainer: check: %s is the file the model was trained on (SHA-256 %s): %w", t.Source, t.Fingerprint.SHA256, ErrNotFresh)
 	}
 	cls, margins, err := m.Predict(t)
 	if err != nil {
@@ -111,6 +135,10 @@ func Check(m *Model, t *datasets.Table, cfg CheckConfig) (*CheckResult, error) {
 	res.Confusion = make([][]int, len(res.Classes))
 	for i := range res.Confusion {
 		res.Confusion[i] = make([]int, k)
+	}
+	if !known(rowOf, k) {
+		return nil, fmt.Errorf("trainer: check: %s: none of the fresh rows' classes %q is a class of the model %q: is the label column %q the right one?",
+			t.Source, t.Classes, m.Classes, t.LabelName)
 	}
 	res.Ties = make([]int, len(res.Classes))
 	rows := make([]int, len(res.Classes))
@@ -147,6 +175,10 @@ func Check(m *Model, t *datasets.Table, cfg CheckConfig) (*CheckResult, error) {
 		res.Verdict = fmt.Sprintf("consistent: the fresh rows' error rate, %.2f%% (at least %s), is within the training certificate's bound of %s",
 			100*res.ErrorRate, Percent(res.Lower.Value, false), Percent(res.ModelBound, true))
 	}
+	if training {
+		res.TrainingData = true
+		res.Verdict += "; but these are the rows the model was trained on, so this says nothing about new rows"
+	}
 	if cfg.Population != 0 {
 		b, err := objective.PopulationBound(res.Errors, res.Rows, cfg.Population, cfg.Delta)
 		if err != nil {
@@ -173,4 +205,15 @@ func Check(m *Model, t *datasets.Table, cfg CheckConfig) (*CheckResult, error) {
 			ErrorRate: float64(errs[i]) / float64(n), Bound: b.Value})
 	}
 	return res, nil
+}
+
+// known reports whether some fresh class (its row of Confusion in rowOf)
+// is one of the model's k classes.
+func known(rowOf []int, k int) bool {
+	for _, r := range rowOf {
+		if r < k {
+			return true
+		}
+	}
+	return false
 }

@@ -2,6 +2,7 @@ package trainer
 
 import (
 	"context"
+	"errors"
 	"math"
 	"strings"
 	"testing"
@@ -167,5 +168,33 @@ func TestMarginHistogram(t *testing.T) {
 				t.Errorf("%v: counts %v, want bin %d", c.x, h.Counts, c.bin)
 			}
 		})
+	}
+}
+
+// The file the model was trained on is not fresh: Check refuses it by its
+// SHA-256 unless asked, and then says so in the verdict.
+func TestCheckTrainingData(t *testing.T) {
+	train := demoTable(t, 400, 2)
+	m, err := Train(context.Background(), train, Config{Seed: 1, Pool: voters.PoolConfig{Thresholds: 4, LinearVoters: intp(0)}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := Check(m, demoTable(t, 400, 2), CheckConfig{}); !errors.Is(err, ErrNotFresh) || !strings.Contains(err.Error(), "trained on") {
+		t.Errorf("the training file: error %v, want ErrNotFresh", err)
+	}
+	res, err := Check(m, demoTable(t, 400, 2), CheckConfig{AllowTrainingData: true})
+	if err != nil || !res.TrainingData || !strings.Contains(res.Verdict, "says nothing about new rows") {
+		t.Errorf("allowed: %+v, %v", res, err)
+	}
+	res, err = Check(m, demoTable(t, 400, 5), CheckConfig{})
+	if err != nil || res.TrainingData {
+		t.Errorf("fresh rows: training %v, error %v", res != nil && res.TrainingData, err)
+	}
+	// Fresh rows whose classes are all unknown to the model: the label
+	// column is likely the wrong one.
+	fresh := demoTable(t, 50, 6)
+	fresh.Classes = []string{"x", "y"}
+	if _, err := Check(m, fresh, CheckConfig{}); err == nil || !strings.Contains(err.Error(), "none of the fresh rows' classes") {
+		t.Errorf("unknown classes: error %v", err)
 	}
 }

@@ -2,7 +2,9 @@
 // vote: the seeded split into prior rows and certify rows, the
 // pool and the prior built on the prior rows only, the statistics counted on
 // the certify rows, the optimisation of the posterior, the certificate with
-// its delta ledger, and the model file.
+// its delta ledger, the model file, checks of a vote on fresh rows and the
+// monitoring ledger of repeated checks (delta spent as 6/(pi^2 k^2) over
+// the checks, so all their verdicts hold at once).
 //
 // # Honest accounting
 //

@@ -3,9 +3,11 @@ package trainer_test
 import (
 	"bytes"
 	"context"
+	"errors"
 	"fmt"
 	"log"
 	"os"
+	"time"
 
 	"surety/datasets"
 	"surety/datasets/demodata"
@@ -144,5 +146,37 @@ func ExampleMeasureDemo() {
 	fmt.Println(meas.ErrorRate <= m.Certificate.RiskBound)
 	// Output:
 	// true error 7.1%, certificate 0.0905, label noise 5%
+	// true
+}
+
+// A monitoring ledger: each week's labelled rows are checked against the
+// certificate, and check k spends delta * 6 / (pi^2 k^2), so that every
+// limit of every check holds at once with probability at least 1 - delta.
+// The time is the caller's: the library reads no clock.
+func ExampleMonitor() {
+	m, err := trainer.Train(context.Background(), demo(1000, 1), trainer.Config{Seed: 1, Pool: small})
+	if err != nil {
+		log.Fatal(err)
+	}
+	ledger, err := trainer.NewMonitorLedger(m, 0.05)
+	if err != nil {
+		log.Fatal(err)
+	}
+	week := time.Date(2026, 12, 7, 9, 0, 0, 0, time.UTC)
+	for k := range 3 {
+		_, e, err := trainer.Monitor(m, demo(500, uint64(50+k)), ledger, trainer.MonitorConfig{Time: week.AddDate(0, 0, 7*k)})
+		if err != nil {
+			log.Fatal(err)
+		}
+		fmt.Printf("check %d  %s  %d errors of %d  delta_k %.5f  limits [%.3f, %.3f]  consistent %v\n",
+			e.Check, e.Time[:10], e.Errors, e.Rows, e.Delta, e.Lower, e.Upper, e.Consistent)
+	}
+	// The same rows twice add no evidence: refused.
+	_, _, err = trainer.Monitor(m, demo(500, 50), ledger, trainer.MonitorConfig{Time: week.AddDate(0, 1, 0)})
+	fmt.Println(errors.Is(err, trainer.ErrRepeatedData))
+	// Output:
+	// check 1  2026-12-07  32 errors of 500  delta_k 0.03040  limits [0.042, 0.092]  consistent true
+	// check 2  2026-12-14  30 errors of 500  delta_k 0.00760  limits [0.035, 0.094]  consistent true
+	// check 3  2026-12-21  41 errors of 500  delta_k 0.00338  limits [0.050, 0.124]  consistent true
 	// true
 }

@@ -2,10 +2,13 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"math"
+	"os"
 	"strings"
+	"time"
 
 	"github.com/spf13/pflag"
 
@@ -13,41 +16,95 @@ import (
 )
 
 func init() {
-	register("check", "--model FILE --data FILE [--delta D] [--population N] [--json]",
-		"Check a vote on labelled fresh rows against its certificate (a verdict of drift is a finding, not a failure: exit 0).",
+	register("check", "--model FILE --data FILE [--label COL] [--delta D] [--population N] [--ledger FILE [--time T]] [--fail-on-drift] [--json]",
+		"Check a vote on labelled fresh rows against its certificate; with --ledger, as the next of a sequence of checks whose verdicts all hold at once with probability 1 - delta.",
 		func() command { return &checkOptions{} })
 }
 
 type checkOptions struct {
-	model      string
-	data       dataFlags
-	delta      deltaFlag
-	population int
-	output     outputFlags
+	model         string
+	data          dataFlags
+	delta         deltaFlag
+	population    int
+	allowTraining bool
+	failOnDrift   bool
+	ledger        string
+	when          string
+	allowRepeat   bool
+	output        outputFlags
 }
 
 func (o *checkOptions) AddFlags(fs *pflag.FlagSet) {
 	fs.StringVar(&o.model, "model", "", "model `file` written by train or sweep")
 	o.data.AddFlags(fs, false)
-	o.delta.AddFlags(fs, "probability that each bound of the check is wrong")
+	fs.StringVar(&o.data.label, "label", "", "label column `name` of the fresh file, when it differs from the model's (default: the model's label column)")
+	o.delta.AddFlags(fs, "probability that each bound of the check is wrong (with --ledger: that any limit of the whole ledger is wrong; it must be the ledger's)")
 	fs.Var(&intRange{v: &o.population, lo: 2, hi: math.MaxInt, what: "--population"}, "population",
 		"size N of a fixed population the fresh rows are a uniform sample of, without replacement: bound the error on its N - n unlabelled rows")
+	fs.BoolVar(&o.allowTraining, "allow-training-data", false, "check the very file the model was trained on (refused otherwise: its rows are not fresh), for a demonstration only")
+	fs.BoolVar(&o.failOnDrift, "fail-on-drift", false, "exit with status 3 when the verdict is drift (the output is printed in full first)")
+	fs.StringVar(&o.ledger, "ledger", "", "monitoring ledger `file` (JSON lines; created if missing): record this check in it and spend delta over all its checks")
+	fs.StringVar(&o.when, "time", "", "with --ledger: the check's `time`, RFC 3339 (2026-12-03T09:00:00Z) or a date (2026-12-03) (default: now)")
+	fs.BoolVar(&o.allowRepeat, "allow-repeat", false, "with --ledger: accept rows (same SHA-256) an earlier check of the ledger used; they add no evidence")
 	o.output.AddFlags(fs)
+}
+
+func (o *checkOptions) exitCodes() string {
+	return "exit status: 0 success (a drift verdict too, unless --fail-on-drift); 1 the job failed (bad data, the training file, I/O); 2 bad usage; 3 with --fail-on-drift, the verdict is drift.\n"
 }
 
 // checkJSON is check's --json output: the check and where it came from.
 type checkJSON struct {
 	ModelPath string `json:"model_path"`
 	DataPath  string `json:"data_path"`
+	Label     string `json:"label"`
 	*trainer.CheckResult
-	ModelStatement string   `json:"model_statement"`
-	Cautions       []string `json:"cautions"`
+	Monitor        *monitorJSON `json:"monitor,omitempty"`
+	ModelStatement string       `json:"model_statement"`
+	Cautions       []string     `json:"cautions"`
+}
+
+// monitorJSON is the ledger part of check --json.
+type monitorJSON struct {
+	LedgerPath string                 `json:"ledger_path"`
+	Method     string                 `json:"method"`
+	Delta      float64                `json:"delta"`
+	Check      int                    `json:"check"`
+	SpentDelta float64                `json:"spent_delta"`
+	Statement  string                 `json:"statement"`
+	History    []trainer.MonitorEntry `json:"history"`
 }
 
 func (o *checkOptions) run(ctx context.Context, args []string, e *env) error {
 	m, err := modelArg(args, o.model)
 	if err != nil {
 		return err
+	}
+	if o.ledger == "" && (o.when != "" || o.allowRepeat) {
+		return usagef("--time and --allow-repeat need --ledger")
+	}
+	if o.ledger != "" && o.population != 0 {
+		return usagef("--population cannot go with --ledger: the ledger spends its delta on the limits of each check alone")
+	}
+	if o.ledger != "" && o.allowTraining {
+		return usagef("--allow-training-data cannot go with --ledger: a monitoring ledger records fresh rows only")
+	}
+	for _, c := range m.Columns {
+		if o.data.label != "" && c.Name == o.data.label {
+			return usagef("--label %q is a column the vote reads, not a label", o.data.label)
+		}
+	}
+	when := time.Now()
+	if o.when != "" {
+		if when, err = parseTime(o.when); err != nil {
+			return err
+		}
+	}
+	var ledger *trainer.MonitorLedger
+	if o.ledger != "" {
+		if ledger, err = openLedger(o.ledger, m, o.delta.delta); err != nil {
+			return err
+		}
 	}
 	t, err := readLabelled(e, &o.data, m, o.model)
 	if err != nil {
@@ -56,19 +113,77 @@ func (o *checkOptions) run(ctx context.Context, args []string, e *env) error {
 	if o.population != 0 && o.population <= t.Rows {
 		return usagef("--population %d must exceed the %d fresh rows: N counts the whole population, the labelled rows included", o.population, t.Rows)
 	}
-	res, err := trainer.Check(m, t, trainer.CheckConfig{Delta: o.delta.delta, Population: o.population})
+	var res *trainer.CheckResult
+	var mon *monitorJSON
+	if ledger != nil {
+		var entry *trainer.MonitorEntry
+		res, entry, err = trainer.Monitor(m, t, ledger, trainer.MonitorConfig{Time: when, AllowRepeat: o.allowRepeat})
+		if errors.Is(err, trainer.ErrRepeatedData) {
+			err = fmt.Errorf("%w (--allow-repeat records it anyway)", err)
+		}
+		if err != nil {
+			return err
+		}
+		if err := trainer.WriteMonitorLedger(o.ledger, ledger); err != nil {
+			return err
+		}
+		mon = &monitorJSON{LedgerPath: o.ledger, Method: ledger.Header.Method, Delta: ledger.Header.Delta, Check: entry.Check,
+			SpentDelta: entry.Delta, Statement: trainer.MonitorStatement(ledger.Header.Delta), History: ledger.Entries}
+	} else {
+		res, err = trainer.Check(m, t, trainer.CheckConfig{Delta: o.delta.delta, Population: o.population, AllowTrainingData: o.allowTraining})
+		if errors.Is(err, trainer.ErrNotFresh) {
+			err = fmt.Errorf("%w (--allow-training-data checks it anyway, for a demonstration)", err)
+		}
+		if err != nil {
+			return err
+		}
+	}
+	if o.output.json {
+		err = writeJSON(e.stdout, checkJSON{ModelPath: o.model, DataPath: o.data.path, Label: t.LabelName, CheckResult: res,
+			Monitor: mon, ModelStatement: m.Certificate.Sentence(), Cautions: trainer.Cautions})
+	} else {
+		printCheck(e.stdout, o.model, o.data.path, m, res, mon)
+	}
 	if err != nil {
 		return err
 	}
-	if o.output.json {
-		return writeJSON(e.stdout, checkJSON{ModelPath: o.model, DataPath: o.data.path, CheckResult: res,
-			ModelStatement: m.Certificate.Sentence(), Cautions: trainer.Cautions})
+	if o.failOnDrift && !res.Consistent {
+		return findingError{code: 3, err: fmt.Errorf("drift: the fresh rows' lower limit, %s, is above the certificate's %s (--fail-on-drift)",
+			trainer.Percent(res.Lower.Value, false), trainer.Percent(res.ModelBound, true))}
 	}
-	printCheck(e.stdout, o.model, o.data.path, m, res)
 	return nil
 }
 
-func printCheck(w io.Writer, modelPath, dataPath string, m *trainer.Model, r *trainer.CheckResult) {
+// openLedger reads the ledger at path for model m at delta, or starts an
+// empty one when the file does not exist.
+func openLedger(path string, m *trainer.Model, delta float64) (*trainer.MonitorLedger, error) {
+	if _, err := os.Stat(path); errors.Is(err, os.ErrNotExist) {
+		return trainer.NewMonitorLedger(m, delta)
+	}
+	l, err := trainer.ReadMonitorLedgerFile(path)
+	if err != nil {
+		return nil, err
+	}
+	if err := l.Matches(m, delta); err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return l, nil
+}
+
+// parseTime reads --time: RFC 3339, or a date alone (midnight UTC).
+func parseTime(s string) (time.Time, error) {
+	if t, err := time.Parse(time.RFC3339, s); err == nil {
+		return t, nil
+	}
+	if t, err := time.Parse(time.DateOnly, s); err == nil {
+		return t, nil
+	}
+	return time.Time{}, usagef("--time %q is neither RFC 3339 (2026-12-03T09:00:00Z) nor a date (2026-12-03)", s)
+}
+
+// printCheck prints a check; mon, when not nil, is the ledger the check
+// was recorded in.
+func printCheck(w io.Writer, modelPath, dataPath string, m *trainer.Model, r *trainer.CheckResult, mon *monitorJSON) {
 	conf := trainer.Percent(1-r.Delta, false)
 	sel := ""
 	if k := m.Provenance.SweepSettings; k > 0 && m.Provenance.SweepSelected {
@@ -77,12 +192,25 @@ func printCheck(w io.Writer, modelPath, dataPath string, m *trainer.Model, r *tr
 		sel = fmt.Sprintf(", one of %d settings of a sweep: it holds only if this setting was fixed before the sweep", k)
 	}
 	fmt.Fprintf(w, "model  %s: label %q, certificate %s at delta %g (%s%s)\n", modelPath, m.Label, trainer.Percent(r.ModelBound, true), r.ModelDelta, m.Certificate.Family, sel)
-	fmt.Fprintf(w, "fresh  %s: %d labelled rows\n\n", dataPath, r.Rows)
+	fmt.Fprintf(w, "fresh  %s: %d labelled rows\n", dataPath, r.Rows)
+	if mon != nil {
+		fmt.Fprintf(w, "ledger %s: check %d, spending delta_%d = %g * 6 / (pi^2 * %d^2) = %.4g, half on each limit\n",
+			mon.LedgerPath, mon.Check, mon.Check, mon.Delta, mon.Check, mon.SpentDelta)
+	}
+	fmt.Fprintln(w)
 	fmt.Fprintf(w, "fresh error     %d of %d rows, %s (ties count as errors)\n", r.Errors, r.Rows, pct(r.ErrorRate))
-	fmt.Fprintf(w, "test-set bound  at most %s and at least %s, each with probability at least %s (binomial tail, delta %g)\n",
-		trainer.Percent(r.Upper.Value, true), trainer.Percent(r.Lower.Value, false), conf, r.Delta)
+	if mon != nil {
+		fmt.Fprintf(w, "limits          at most %s and at least %s (binomial tail, each at delta_%d / 2 = %.4g; all the ledger's limits hold at once with probability at least %s)\n",
+			trainer.Percent(r.Upper.Value, true), trainer.Percent(r.Lower.Value, false), mon.Check, r.Delta, trainer.Percent(1-mon.Delta, false))
+	} else {
+		fmt.Fprintf(w, "test-set bound  at most %s and at least %s, each with probability at least %s (binomial tail, delta %g)\n",
+			trainer.Percent(r.Upper.Value, true), trainer.Percent(r.Lower.Value, false), conf, r.Delta)
+	}
 	fmt.Fprintf(w, "model's own     %s\n\n", m.Certificate.Sentence())
 	fmt.Fprintf(w, "verdict: %s\n", r.Verdict)
+	if mon != nil {
+		printHistory(w, mon)
+	}
 	if p := r.Population; p != nil {
 		pop, _ := p.Term("population")
 		unl, _ := p.Term("unlabelled_errors_upper")
@@ -116,12 +244,42 @@ func printCheck(w io.Writer, modelPath, dataPath string, m *trainer.Model, r *tr
 		fmt.Fprintf(w, "  %s\n", strings.Join(cells, " "))
 	}
 
-	fmt.Fprintf(w, "\nper class (each bound at delta / %d = %.4g, so that all %d hold at once with probability at least %s):\n",
-		len(r.PerClass), r.ClassDelta, len(r.PerClass), conf)
+	if mon != nil {
+		fmt.Fprintf(w, "\nper class (each bound at delta_%d / (2 x %d) = %.4g, so that the per-class bounds of all the ledger's checks hold at once with probability at least %s):\n",
+			mon.Check, len(r.PerClass), r.ClassDelta, trainer.Percent(1-mon.Delta/2, false))
+	} else {
+		fmt.Fprintf(w, "\nper class (each bound at delta / %d = %.4g, so that all %d hold at once with probability at least %s):\n",
+			len(r.PerClass), r.ClassDelta, len(r.PerClass), conf)
+	}
 	fmt.Fprintf(w, "  %-*s %8s %8s %8s %8s\n", width, "class", "rows", "errors", "error", "bound")
 	for _, c := range r.PerClass {
 		fmt.Fprintf(w, "  %-*s %8d %8d %8s %8s\n", width, c.Class, c.Rows, c.Errors, pct(c.ErrorRate), trainer.Percent(c.Bound, true))
 	}
 	fmt.Fprintln(w)
 	printCautions(w)
+}
+
+// historyShown is how many of a ledger's latest checks check prints.
+const historyShown = 12
+
+func printHistory(w io.Writer, mon *monitorJSON) {
+	h := mon.History
+	fmt.Fprintf(w, "\nledger history (checks: %d; method %s):\n", len(h), mon.Method)
+	if len(h) > historyShown {
+		fmt.Fprintf(w, "  (%d earlier checks not shown)\n", len(h)-historyShown)
+		h = h[len(h)-historyShown:]
+	}
+	fmt.Fprintf(w, "  %5s  %-20s %8s %8s %8s %8s %8s  %s\n", "check", "time", "rows", "errors", "error", "lower", "upper", "verdict")
+	for _, c := range h {
+		v := "consistent"
+		if !c.Consistent {
+			v = "drift"
+		}
+		if c.RepeatOf != 0 {
+			v += fmt.Sprintf(" (rows of check %d)", c.RepeatOf)
+		}
+		fmt.Fprintf(w, "  %5d  %-20s %8d %8d %8s %8s %8s  %s\n", c.Check, c.Time, c.Rows, c.Errors, pct(c.ErrorRate),
+			trainer.Percent(c.Lower, false), trainer.Percent(c.Upper, true), v)
+	}
+	fmt.Fprintf(w, "  %s\n", mon.Statement)
 }

@@ -7,6 +7,7 @@
 //	0  success
 //	1  the job failed (bad data, no certificate possible, I/O)
 //	2  bad usage (unknown command or flag, a flag value out of range)
+//	3  a finding a command was asked to fail on (check --fail-on-drift)
 package main
 
 import (
@@ -60,6 +61,21 @@ func (u usageError) Unwrap() error { return u.err }
 
 func usagef(format string, a ...any) error { return usageError{fmt.Errorf(format, a...)} }
 
+// findingError is a finding the user asked to fail on (check
+// --fail-on-drift): the command's output is complete, and the exit status
+// is code.
+type findingError struct {
+	code int
+	err  error
+}
+
+func (f findingError) Error() string { return f.err.Error() }
+func (f findingError) Unwrap() error { return f.err }
+
+// exitCoder is a command with exit statuses of its own beyond 0, 1 and 2;
+// its help prints exitCodes() instead of the common line.
+type exitCoder interface{ exitCodes() string }
+
 func main() {
 	e := &env{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, progress: isTerminal(os.Stderr)}
 	os.Exit(dispatch(context.Background(), os.Args[1:], e))
@@ -93,8 +109,12 @@ func parseAndRun(ctx context.Context, r registration, args []string, e *env) int
 	fs.SortFlags = false
 	fs.SetOutput(io.Discard)
 	c.AddFlags(fs)
+	codes := exitCodes
+	if x, ok := c.(exitCoder); ok {
+		codes = x.exitCodes()
+	}
 	fs.Usage = func() {
-		fmt.Fprintf(e.stdout, "usage: surety %s %s\n\n%s\n\nflags:\n%s\n%s", r.name, r.usage, r.summary, fs.FlagUsages(), exitCodes)
+		fmt.Fprintf(e.stdout, "usage: surety %s %s\n\n%s\n\nflags:\n%s\n%s", r.name, r.usage, r.summary, fs.FlagUsages(), codes)
 	}
 	if err := fs.Parse(args); err != nil {
 		if errors.Is(err, pflag.ErrHelp) {
@@ -108,6 +128,10 @@ func parseAndRun(ctx context.Context, r registration, args []string, e *env) int
 		var u usageError
 		if errors.As(err, &u) {
 			return 2
+		}
+		var f findingError
+		if errors.As(err, &f) {
+			return f.code
 		}
 		return 1
 	}

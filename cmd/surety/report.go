@@ -13,8 +13,8 @@ import (
 )
 
 func init() {
-	register("report", "--model FILE [--sweep DIR] [--check FILE] [--delta D] [--out report.html] [--json]",
-		"Write one self-contained HTML page on a model: certificate, ledger, data and split, voters as rules, plots, cautions; with a sweep and a check on fresh rows when given.",
+	register("report", "--model FILE [--sweep DIR] [--check FILE] [--ledger FILE] [--delta D] [--out report.html] [--json]",
+		"Write one self-contained HTML page on a model: certificate, ledger, data and split, voters as rules, plots, cautions; with a sweep, a check on fresh rows and a monitoring history when given.",
 		func() command { return &reportOptions{} })
 }
 
@@ -24,6 +24,7 @@ type reportOptions struct {
 	// check reads the fresh rows: its path is the --check flag, and the
 	// other data flags say how to read the file.
 	check  dataFlags
+	ledger string
 	delta  deltaFlag
 	top    int
 	out    string
@@ -38,6 +39,7 @@ func (o *reportOptions) AddFlags(fs *pflag.FlagSet) {
 	o.check.flag = "check"
 	o.check.usage = "labelled fresh CSV `file` to check the vote on (with the model's label column): adds the check and its plot"
 	o.check.AddFlags(fs, false)
+	fs.StringVar(&o.ledger, "ledger", "", "monitoring ledger `file` of this model (written by check --ledger): adds its history, as a table and a plot")
 	o.delta.AddFlags(fs, "probability that each bound of the check is wrong")
 	o.top = 10
 	fs.Var(&intRange{v: &o.top, lo: 1, hi: 1 << 20, what: "--top"}, "top", "number of voters to list as rules, heaviest first")
@@ -73,6 +75,12 @@ func (o *reportOptions) run(ctx context.Context, args []string, e *env) error {
 			return err
 		}
 		in.CheckPath = o.check.path
+	}
+	if o.ledger != "" {
+		if in.Monitor, err = trainer.ReadMonitorLedgerFile(o.ledger); err != nil {
+			return err
+		}
+		in.MonitorPath = o.ledger
 	}
 	var page bytes.Buffer
 	if err := report.Write(&page, in); err != nil {

@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"regexp"
@@ -51,6 +52,20 @@ func TestReportCommand(t *testing.T) {
 	if _, errs, code := runSurety(t, "", "train", "--data", fresh, "--label", demodata.Label, "--out", other, "--linear-voters", "2", "--thresholds", "8"); code != 0 {
 		t.Fatalf("train exit %d: %s", code, errs)
 	}
+	// A ledger of two checks of this model, and one of the other model.
+	ledger := filepath.Join(dir, "ledger.jsonl")
+	otherLedger := filepath.Join(dir, "other-ledger.jsonl")
+	for i, seed := range []uint64{78, 79} {
+		week := demoRows(t, dir, fmt.Sprintf("week%d.csv", i+1), demodata.Config{Rows: 300}, seed)
+		if _, errs, code := runSurety(t, "", "check", "--model", model, "--data", week, "--ledger", ledger, "--time", fmt.Sprintf("2026-11-0%d", 2+i)); code != 0 {
+			t.Fatalf("check exit %d: %s", code, errs)
+		}
+		if i == 0 {
+			if _, errs, code := runSurety(t, "", "check", "--model", other, "--data", week, "--ledger", otherLedger, "--time", "2026-11-02"); code != 0 {
+				t.Fatalf("check exit %d: %s", code, errs)
+			}
+		}
+	}
 	cases := []struct {
 		name  string
 		args  []string
@@ -58,6 +73,9 @@ func TestReportCommand(t *testing.T) {
 		plots []string
 	}{
 		{"model only", []string{"--model", model}, 0, []string{"plot-weights", "plot-margins"}},
+		{"with a ledger", []string{"--model", model, "--ledger", ledger}, 0, []string{"plot-weights", "plot-margins", "plot-history"}},
+		{"ledger of another model", []string{"--model", model, "--ledger", otherLedger}, 1, nil},
+		{"missing ledger", []string{"--model", model, "--ledger", filepath.Join(dir, "nowhere.jsonl")}, 1, nil},
 		{"with check and sweep folder", []string{"--model", model, "--check", fresh, "--sweep", sweepDir}, 0,
 			[]string{"plot-weights", "plot-margins", "plot-check", "plot-sweep"}},
 		{"sweep.json named", []string{"--model", model, "--sweep", filepath.Join(sweepDir, "sweep.json")}, 0,

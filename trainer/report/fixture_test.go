@@ -3,8 +3,10 @@ package report_test
 import (
 	"bytes"
 	"context"
+	"fmt"
 	"sync"
 	"testing"
+	"time"
 
 	"surety/datasets"
 	"surety/datasets/demodata"
@@ -48,8 +50,30 @@ var demoInput = sync.OnceValues(func() (report.Input, error) {
 	if err != nil {
 		return report.Input{}, err
 	}
+	// A monitoring ledger of six weekly checks of 300 rows, the fifth
+	// with its labels flipped (a drift verdict).
+	ledger, err := trainer.NewMonitorLedger(m, 0.05)
+	if err != nil {
+		return report.Input{}, err
+	}
+	week := time.Date(2026, 11, 2, 9, 0, 0, 0, time.UTC)
+	for k := range 6 {
+		rows, err := read(300, uint64(200+k), opts)
+		if err != nil {
+			return report.Input{}, err
+		}
+		if k == 4 {
+			for i, c := range rows.Label {
+				rows.Label[i] = len(rows.Classes) - 1 - c
+			}
+		}
+		rows.Source = fmt.Sprintf("demo/week%d.csv", k+1)
+		if _, _, err := trainer.Monitor(m, rows, ledger, trainer.MonitorConfig{Time: week.AddDate(0, 0, 7*k)}); err != nil {
+			return report.Input{}, err
+		}
+	}
 	return report.Input{Model: m, ModelPath: "demo/model.json", Sweep: sw, SweepPath: "demo/sweep",
-		Check: chk, CheckPath: "demo/fresh.csv"}, nil
+		Check: chk, CheckPath: "demo/fresh.csv", Monitor: ledger, MonitorPath: "demo/ledger.jsonl"}, nil
 })
 
 func fixture(t testing.TB) report.Input {

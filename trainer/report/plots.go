@@ -25,6 +25,7 @@ const (
 	PlotMargins = "plot-margins"
 	PlotCheck   = "plot-check"
 	PlotSweep   = "plot-sweep"
+	PlotHistory = "plot-history"
 )
 
 // Plot is one figure of a report.
@@ -40,7 +41,7 @@ type Plot struct {
 
 // PlotIDs lists the plots Write draws for in, in page order: the weights
 // always, the margins when the model records them, the check and the sweep
-// when given.
+// when given, and the monitoring history when the ledger holds a check.
 func PlotIDs(in Input) []string {
 	var ids []string
 	if in.Model != nil {
@@ -54,6 +55,9 @@ func PlotIDs(in Input) []string {
 	}
 	if in.Sweep != nil {
 		ids = append(ids, PlotSweep)
+	}
+	if in.Monitor != nil && len(in.Monitor.Entries) > 0 {
+		ids = append(ids, PlotHistory)
 	}
 	return ids
 }
@@ -73,6 +77,8 @@ func Plots(in Input) ([]Plot, error) {
 			p, err = CheckPlot(in.Check)
 		case PlotSweep:
 			p, err = SweepPlot(in.Sweep)
+		case PlotHistory:
+			p, err = HistoryPlot(in.Monitor)
 		}
 		if err != nil {
 			return nil, err

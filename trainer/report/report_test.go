@@ -43,6 +43,10 @@ func TestWriteSections(t *testing.T) {
 	flat.K, flat.Selected = len(flat.Rows), 0
 	noLinear := modelOnly
 	noLinear.Sweep = &flat
+	withLedger := modelOnly
+	withLedger.Monitor, withLedger.MonitorPath = full.Monitor, full.MonitorPath
+	emptyLedger := modelOnly
+	emptyLedger.Monitor = &trainer.MonitorLedger{Header: full.Monitor.Header}
 	cases := []struct {
 		name    string
 		in      report.Input
@@ -61,8 +65,15 @@ func TestWriteSections(t *testing.T) {
 			[]string{`id="sweep-statement"`, `id="sweep-table"`, `id="plot-sweep"`, `class="selected"`},
 			[]string{`id="check"`, `id="plot-check"`}},
 		{"everything", full,
-			[]string{`id="plot-weights"`, `id="plot-margins"`, `id="plot-check"`, `id="plot-sweep"`, "demo/fresh.csv", "demo/sweep", "demo/model.json"},
+			[]string{`id="plot-weights"`, `id="plot-margins"`, `id="plot-check"`, `id="plot-sweep"`, `id="plot-history"`, "demo/fresh.csv", "demo/sweep", "demo/model.json",
+				`id="monitor-table"`, "demo/ledger.jsonl", "demo/week6.csv", `class="drift"`},
 			nil},
+		{"with a ledger", withLedger,
+			[]string{`id="monitor"`, `id="monitor-statement"`, `id="monitor-table"`, `id="plot-history"`, "2026-11-30T09:00:00Z"},
+			[]string{`id="check"`, `id="sweep"`}},
+		{"with an empty ledger", emptyLedger,
+			[]string{`id="monitor"`, "holds no check yet"},
+			[]string{`id="plot-history"`, `id="monitor-table"`}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -188,7 +199,8 @@ func TestPlotIDs(t *testing.T) {
 	}{
 		{"model only", report.Input{Model: full.Model}, []string{report.PlotWeights, report.PlotMargins}},
 		{"model without margins", report.Input{Model: &noMargins}, []string{report.PlotWeights}},
-		{"everything", full, []string{report.PlotWeights, report.PlotMargins, report.PlotCheck, report.PlotSweep}},
+		{"everything", full, []string{report.PlotWeights, report.PlotMargins, report.PlotCheck, report.PlotSweep, report.PlotHistory}},
+		{"empty ledger", report.Input{Model: full.Model, Monitor: &trainer.MonitorLedger{Header: full.Monitor.Header}}, []string{report.PlotWeights, report.PlotMargins}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -213,6 +225,11 @@ func TestWriteBadInput(t *testing.T) {
 			break
 		}
 	}
+	otherLedger := *full.Monitor
+	otherLedger.Header.Model.SHA256 = strings.Repeat("0", 64)
+	nanLedger := *full.Monitor
+	nanLedger.Entries = append([]trainer.MonitorEntry(nil), full.Monitor.Entries...)
+	nanLedger.Entries[0].Upper = 1 / zero()
 	cases := []struct {
 		name string
 		in   report.Input
@@ -221,6 +238,8 @@ func TestWriteBadInput(t *testing.T) {
 		{"infinite model bound in the check", report.Input{Model: full.Model, Check: &nanCheck}},
 		{"linear row with no trade-off", report.Input{Model: full.Model, Sweep: &badSweep}},
 		{"negative top voters", report.Input{Model: full.Model, TopVoters: -1}},
+		{"a ledger of another model", report.Input{Model: full.Model, Monitor: &otherLedger}},
+		{"a ledger with an infinite limit", report.Input{Model: full.Model, Monitor: &nanLedger}},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -24,6 +24,11 @@ type Input struct {
 	Check *trainer.CheckResult
 	// CheckPath names the fresh rows' file.
 	CheckPath string
+	// Monitor, when not nil, adds the monitoring ledger's history: its
+	// table and plot. It must belong to Model.
+	Monitor *trainer.MonitorLedger
+	// MonitorPath names the ledger file.
+	MonitorPath string
 	// TopVoters is the number of heaviest voters listed as rules. Default
 	// 10.
 	TopVoters int
@@ -47,6 +52,11 @@ func Write(w io.Writer, in Input) error {
 	}
 	if in.Sweep != nil {
 		if err := in.Sweep.Matches(in.Model); err != nil {
+			return fmt.Errorf("report: %w", err)
+		}
+	}
+	if in.Monitor != nil {
+		if err := in.Monitor.Matches(in.Model, in.Monitor.Header.Delta); err != nil {
 			return fmt.Errorf("report: %w", err)
 		}
 	}
@@ -87,6 +97,7 @@ type view struct {
 	PlotOrder    []figure
 	Check        *checkView
 	Sweep        *sweepView
+	Monitor      *monitorView
 	Cautions     []string
 }
 
@@ -251,6 +262,9 @@ func buildView(in Input, plots []Plot) view {
 	if in.Sweep != nil {
 		v.Sweep = buildSweep(in.Sweep, in.SweepPath)
 	}
+	if in.Monitor != nil {
+		v.Monitor = buildMonitor(in.Monitor, in.MonitorPath)
+	}
 	for _, pl := range plots {
 		// The SVG comes from gonum's canvas, which escapes every text it
 		// draws, so it is safe to inline as markup.
@@ -260,6 +274,8 @@ func buildView(in Input, plots []Plot) view {
 			v.Check.Figure = f
 		case PlotSweep:
 			v.Sweep.Figure = f
+		case PlotHistory:
+			v.Monitor.Figure = f
 		default:
 			v.PlotOrder = append(v.PlotOrder, *f)
 		}
