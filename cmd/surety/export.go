@@ -48,7 +48,7 @@ type exportFormat struct {
 
 var exportFormats = []exportFormat{
 	{name: "sql", ext: ".sql", what: "one SQL:2003 SELECT", sqlFlags: true, write: writeSQL},
-	{name: "onnx", ext: ".onnx", what: "an ONNX model", binary: true, write: writeONNX},
+	{name: "onnx", ext: ".onnx", what: "one ONNX model", binary: true, write: writeONNX},
 }
 
 func formatWords() string {
@@ -241,6 +241,6 @@ func (o *exportOptions) run(ctx context.Context, args []string, e *env) error {
 		}
 		return writeJSON(e.stdout, j)
 	}
-	fmt.Fprintf(e.stdout, "%s written to %s: %d bytes, %d voters of non-zero weight, %d classes\n", f.what, o.out, b.Len(), voters, len(m.Classes))
+	fmt.Fprintf(e.stdout, "%s written to %s: %d bytes, %s of non-zero weight, %d classes\n", f.what, o.out, b.Len(), counted(voters, "voter", "voters"), len(m.Classes))
 	return nil
 }
