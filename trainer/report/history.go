@@ -7,7 +7,6 @@ import (
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
-	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
 	"surety/trainer"
@@ -79,16 +78,10 @@ func HistoryPlot(l *trainer.MonitorLedger) (Plot, error) {
 	n := len(l.Entries)
 	svg, err := render(PlotHistory, plotWidth, plotHeight, func(dc draw.Canvas) error {
 		p := newPlot("", "check number (in the ledger's order)", "error rate")
-		eb, err := plotter.NewYErrorBars(struct {
-			plotter.XYs
-			plotter.YErrors
-		}{pts, bars})
+		eb, err := errorBars(pts, bars, inkGrey, 1.4, math.Min(10, 300/float64(n)))
 		if err != nil {
 			return err
 		}
-		eb.Color = inkGrey
-		eb.Width = vg.Points(1.4)
-		eb.CapWidth = vg.Points(math.Min(10, 300/float64(n)))
 		cert := hline(bound, inkOrange, dashes[1])
 		p.Add(cert, eb)
 		var okDots, driftDots *plotter.Scatter

@@ -378,16 +378,10 @@ func CheckPlot(c *trainer.CheckResult) (Plot, error) {
 	}
 	svg, err := render(PlotCheck, plotWidth, plotHeight-20, func(dc draw.Canvas) error {
 		p := newPlot("", "", "error rate")
-		eb, err := plotter.NewYErrorBars(struct {
-			plotter.XYs
-			plotter.YErrors
-		}{pts, bars})
+		eb, err := errorBars(pts, bars, inkBlue, 1.6, 14)
 		if err != nil {
 			return err
 		}
-		eb.Color = inkBlue
-		eb.Width = vg.Points(1.6)
-		eb.CapWidth = vg.Points(14)
 		dots, err := pointsOf(pts, inkBlue, draw.CircleGlyph{}, 3.5)
 		if err != nil {
 			return err
@@ -541,4 +535,21 @@ func SweepPlot(s *trainer.SweepResult) (Plot, error) {
 	}
 	return Plot{ID: PlotSweep, Title: "Certificate and error against the trade-off", SVG: svg,
 		Caption: fmt.Sprintf("%d settings. Solid: the certificate at delta / K = %.4g, true for a setting picked after the sweep; dashed: at delta = %g, true only for a setting fixed in advance; dotted: the vote's error on the certify rows. Horizontal lines: objectives that do not depend on C.", s.K, s.SelectionDelta, s.Delta)}, nil
+}
+
+// errorBars draws a vertical bar from pts[i].Y - bars[i].Low to
+// pts[i].Y + bars[i].High at each point, lines width points wide and caps
+// capWidth points across.
+func errorBars(pts plotter.XYs, bars plotter.YErrors, c color.Color, width, capWidth float64) (*plotter.YErrorBars, error) {
+	eb, err := plotter.NewYErrorBars(struct {
+		plotter.XYs
+		plotter.YErrors
+	}{pts, bars})
+	if err != nil {
+		return nil, err
+	}
+	eb.Color = c
+	eb.Width = vg.Points(width)
+	eb.CapWidth = vg.Points(capWidth)
+	return eb, nil
 }
