@@ -1,5 +1,5 @@
-"""Checks ONNX files with the onnx package's checker, for the Go tests of
-voters/onnxexport: onnx.checker.check_model with full_check (which also runs
+"""Checks ONNX files with the onnx package's checker, for the Go tests (called
+by voters/onnxexport/onnxrun): onnx.checker.check_model with full_check (which also runs
 shape inference) on each path given. Prints the onnx version; exits 1 with
 the checker's message on the first file that fails. Run with Debian's
 python3-onnx: /usr/bin/python3 testdata/onnx/check.py FILE..."""

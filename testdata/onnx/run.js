@@ -1,6 +1,6 @@
 'use strict';
-// Runs ONNX files with onnxruntime-node for the Go tests of
-// voters/onnxexport. The request (JSON on stdin) holds a list of jobs, each
+// Runs ONNX files with onnxruntime-node for the Go tests, driven by
+// voters/onnxexport/onnxrun. The request (JSON on stdin) holds a list of jobs, each
 // a model path and a batch of rows, one tensor per input:
 //   {"jobs": [{"model": PATH, "inputs": [{"name": N, "type": "double", "b64": B}
 //                                       | {"name": N, "type": "string", "strings": [...]}]}]}

@@ -8,6 +8,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"os"
+	"path/filepath"
 	"slices"
 	"strings"
 	"testing"
@@ -17,6 +18,8 @@ import (
 	"surety/datasets/ucidata"
 	"surety/trainer"
 	"surety/voters"
+	"surety/voters/onnxexport"
+	"surety/voters/onnxexport/onnxrun"
 	"surety/voters/sqlexport"
 )
 
@@ -35,10 +38,16 @@ type Engine struct {
 	// NaN says the engine stores NaN: half the missing numeric cells then
 	// go in as NaN, half as NULL. Without it every missing cell is NULL.
 	NaN bool
+	// ONNX also runs each vote's ONNX export over the same rows with
+	// onnxruntime-node (package onnxrun), in a subtest "onnx" beside the
+	// SQL check. The runtime does not depend on the SQL engine, so one
+	// engine's test sets it (SQLite's, in the main module) and the others
+	// leave it off.
+	ONNX bool
 }
 
 // Run runs every parity test on e: trained models (skipped under -short)
-// and the awkward table.
+// and the awkward table; with e.ONNX, each vote goes through ONNX too.
 func Run(t *testing.T, e Engine) {
 	t.Run("trained", func(t *testing.T) { trained(t, e) })
 	t.Run("awkward", func(t *testing.T) { awkward(t, e) })
@@ -187,6 +196,37 @@ func checkSQL(t *testing.T, db *sql.DB, name string, v *voters.Vote, schema []vo
 	t.Logf("%d rows, %d classes, %d voters: SQL and predict agree on every class and margin (%d bytes of SQL)", tab.Rows, k, len(v.Voters), q.Len())
 }
 
+// checkONNX, when e.ONNX is set, exports v with onnxexport.Write, checks
+// the file with onnx.checker (full_check), runs every row of tab through
+// onnxruntime-node in one batch and compares each row with v.Predict
+// (onnxrun.Compare): the class exactly, the margin and the class totals
+// within 1e-9 and the margin to the last bit (the graph adds the weights
+// in Predict's order). It runs in a subtest, so that a missing runtime
+// skips the ONNX check alone (outside CI) and leaves the SQL result.
+func (e Engine) checkONNX(t *testing.T, v *voters.Vote, schema []voters.ColumnSpec, tab *datasets.Table) {
+	if !e.ONNX {
+		return
+	}
+	t.Run("onnx", func(t *testing.T) {
+		var b bytes.Buffer
+		if err := onnxexport.Write(&b, v, schema, onnxexport.Options{ProducerVersion: "exportparity"}); err != nil {
+			t.Fatal(err)
+		}
+		path := filepath.Join(t.TempDir(), "vote.onnx")
+		if err := os.WriteFile(path, b.Bytes(), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		onnxrun.Check(t, path)
+		rows := make([]int, tab.Rows)
+		for i := range rows {
+			rows[i] = i
+		}
+		got := onnxrun.Run(t, path, onnxrun.Batch(t, tab, schema, rows))
+		onnxrun.Compare(t, v, tab, rows, got, true)
+		t.Logf("%d bytes of ONNX", b.Len())
+	})
+}
+
 func describeRow(tab *datasets.Table, schema []voters.ColumnSpec, r int) string {
 	var parts []string
 	for _, c := range schema {
@@ -293,6 +333,7 @@ func trained(t *testing.T, e Engine) {
 				db := e.open(t)
 				e.load(t, db, "rows", tab, m.Columns)
 				checkSQL(t, db, "rows", m.Vote, m.Columns, tab)
+				e.checkONNX(t, m.Vote, m.Columns, tab)
 			})
 		}
 	}
@@ -457,9 +498,18 @@ func awkward(t *testing.T, e Engine) {
 	tab := awkwardTable(schema, votes)
 	db := e.open(t)
 	e.load(t, db, "group", tab, schema)
-	t.Run("trained tandem posterior", func(t *testing.T) { checkSQL(t, db, "group", m.Vote, m.Columns, tab) })
-	t.Run("trained certified vote", func(t *testing.T) { checkSQL(t, db, "group", certified.Vote, certified.Columns, tab) })
+	t.Run("trained tandem posterior", func(t *testing.T) {
+		checkSQL(t, db, "group", m.Vote, m.Columns, tab)
+		e.checkONNX(t, m.Vote, m.Columns, tab)
+	})
+	t.Run("trained certified vote", func(t *testing.T) {
+		checkSQL(t, db, "group", certified.Vote, certified.Columns, tab)
+		e.checkONNX(t, certified.Vote, certified.Columns, tab)
+	})
 	for _, h := range hand {
-		t.Run(h.name, func(t *testing.T) { checkSQL(t, db, "group", h.vote, schema, tab) })
+		t.Run(h.name, func(t *testing.T) {
+			checkSQL(t, db, "group", h.vote, schema, tab)
+			e.checkONNX(t, h.vote, schema, tab)
+		})
 	}
 }
