@@ -109,7 +109,7 @@ func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 	}
 	stop()
 	if err != nil {
-		return err
+		return flagHint(err)
 	}
 	if collect {
 		preds := make([]predictionJSON, len(cls))

@@ -94,7 +94,7 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 
 func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir string) {
 	m0 := res.Models[0].Provenance
-	fmt.Fprintf(w, "data   %s: %d rows, label %q with %d classes\n", t.Source, t.Rows, t.LabelName, len(t.Classes))
+	fmt.Fprintf(w, "data   %s: %d rows, label %q with %d classes (%s)\n", t.Source, t.Rows, t.LabelName, len(t.Classes), classCounts(t))
 	fmt.Fprintf(w, "split  %d prior rows, %d certify rows (seed %d), pool of %d voters, the same for all %d settings\n\n",
 		m0.PriorRows, m0.CertifyRows, m0.Seed, m0.PoolSize, res.K)
 	hasTest := res.Rows[0].Test != nil

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strings"
 
 	"github.com/spf13/pflag"
 
@@ -93,11 +94,13 @@ type trainJSON struct {
 }
 
 type dataJSON struct {
-	Source      string               `json:"source"`
-	Rows        int                  `json:"rows"`
-	Columns     int                  `json:"feature_columns"`
-	Label       string               `json:"label"`
-	Classes     []string             `json:"classes"`
+	Source  string   `json:"source"`
+	Rows    int      `json:"rows"`
+	Columns int      `json:"feature_columns"`
+	Label   string   `json:"label"`
+	Classes []string `json:"classes"`
+	// ClassCounts holds the rows of each class, indexed like Classes.
+	ClassCounts []int                `json:"class_counts"`
 	Fingerprint datasets.Fingerprint `json:"fingerprint"`
 	// KindChanges lists the columns read as categorical that the prior
 	// rows made numeric.
@@ -116,7 +119,7 @@ func trainReport(t *datasets.Table, m *trainer.Model, path string) trainJSON {
 		Statement:   m.Certificate.Sentence(),
 		Empirical:   m.Empirical,
 		Data: dataJSON{Source: t.Source, Rows: t.Rows, Columns: len(t.Columns), Label: t.LabelName,
-			Classes: t.Classes, Fingerprint: t.Fingerprint, KindChanges: m.Provenance.KindChanges},
+			Classes: t.Classes, ClassCounts: t.ClassCounts(), Fingerprint: t.Fingerprint, KindChanges: m.Provenance.KindChanges},
 		Split:     splitJSON{Seed: m.Provenance.Seed, PriorRows: m.Provenance.PriorRows, CertifyRows: m.Provenance.CertifyRows},
 		PoolSize:  m.Provenance.PoolSize,
 		Optimizer: m.Provenance.Optimizer,
@@ -148,6 +151,7 @@ func printTrain(w io.Writer, t *datasets.Table, m *trainer.Model, path string) {
 	p := m.Provenance
 	fmt.Fprintf(w, "data       %s: %d rows, %d feature columns (%d numeric, %d categorical), label %q with %d classes\n",
 		t.Source, t.Rows, len(t.Columns), num, cat, t.LabelName, len(t.Classes))
+	fmt.Fprintf(w, "classes    %s\n", classCounts(t))
 	fmt.Fprintf(w, "split      %d prior rows build the pool and the prior, %d certify rows (seed %d)\n", p.PriorRows, p.CertifyRows, p.Seed)
 	fmt.Fprintf(w, "pool       %d voters\n", p.PoolSize)
 	fmt.Fprintf(w, "optimiser  %s objective from the %s start: value %.6g, %s\n",
@@ -234,6 +238,19 @@ func printCautions(w io.Writer) {
 	for _, c := range trainer.Cautions {
 		fmt.Fprintf(w, "- %s\n", c)
 	}
+}
+
+// classCounts lists each class with its rows, in the table's class
+// order: "leak 650, sound 550".
+func classCounts(t *datasets.Table) string {
+	var b strings.Builder
+	for k, n := range t.ClassCounts() {
+		if k > 0 {
+			b.WriteString(", ")
+		}
+		fmt.Fprintf(&b, "%s %d", t.Classes[k], n)
+	}
+	return b.String()
 }
 
 // counted writes n with the singular or plural noun: "1 line", "8 lines".

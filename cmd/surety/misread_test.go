@@ -1,0 +1,71 @@
+package main
+
+import (
+	"encoding/json"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// Files that used to train quietly on a misread table (issue 13): each
+// now stops with a message naming the flag that answers it, or trains
+// with the flag, or warns.
+func TestTrainMisreads(t *testing.T) {
+	fix := func(name string) string { return filepath.Join("testdata", "misread", name) }
+	cases := []struct {
+		name   string
+		args   []string
+		code   int
+		stdout []string
+		stderr []string
+	}{
+		{name: "decimal comma stops", args: []string{"--data", fix("decimal_comma.csv")}, code: 1,
+			stderr: []string{`decimal_comma.csv:2: column 1 "length": "1,32": number with a decimal comma`, "(--decimal-comma)"}},
+		{name: "decimal comma read", args: []string{"--data", fix("decimal_comma.csv"), "--decimal-comma"},
+			stdout: []string{"(2 numeric, 1 categorical)", "classes    big 30, small 30"}},
+		{name: "numeric label with many values", args: []string{"--data", fix("quantity_label.csv"), "--label", "target"}, code: 1,
+			stderr: []string{`column 3 "target": too many classes for a label: 40 classes, more than 10`, "(--max-classes N)"}},
+		{name: "stray label value", args: []string{"--data", fix("stray_class.csv")},
+			stdout: []string{"label \"label\" with 3 classes", "classes    no 20, unknown 1, yes 19"},
+			stderr: []string{`warning: datasets: testdata/misread/stray_class.csv: label "label": class "unknown" has only 1 row`}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			args := append([]string{"train", "--out", filepath.Join(t.TempDir(), "m.json"), "--linear-voters", "0"}, c.args...)
+			out, errs, code := runSurety(t, "", args...)
+			if code != c.code {
+				t.Fatalf("exit %d, want %d; stderr %q", code, c.code, errs)
+			}
+			for _, s := range c.stdout {
+				if !strings.Contains(out, s) {
+					t.Errorf("stdout lacks %q:\n%s", s, out)
+				}
+			}
+			for _, s := range c.stderr {
+				if !strings.Contains(errs, s) {
+					t.Errorf("stderr lacks %q:\n%s", s, errs)
+				}
+			}
+		})
+	}
+}
+
+func TestTrainJSONClassCounts(t *testing.T) {
+	out, errs, code := runSurety(t, "", "train", "--data", filepath.Join("testdata", "misread", "stray_class.csv"),
+		"--out", filepath.Join(t.TempDir(), "m.json"), "--linear-voters", "0", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var rep struct {
+		Data struct {
+			Classes     []string `json:"classes"`
+			ClassCounts []int    `json:"class_counts"`
+		} `json:"data"`
+	}
+	if err := json.Unmarshal([]byte(out), &rep); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Join(rep.Data.Classes, ",") != "no,unknown,yes" || len(rep.Data.ClassCounts) != 3 || rep.Data.ClassCounts[1] != 1 {
+		t.Errorf("classes %v counts %v", rep.Data.Classes, rep.Data.ClassCounts)
+	}
+}
