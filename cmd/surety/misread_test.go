@@ -69,3 +69,44 @@ func TestTrainJSONClassCounts(t *testing.T) {
 		t.Errorf("classes %v counts %v", rep.Data.Classes, rep.Data.ClassCounts)
 	}
 }
+
+// On 40 rows whose columns say nothing of the label, the certificate is
+// above the error of always answering the majority class: the text, the
+// --json and show say so.
+func TestTrainVacuousCertificate(t *testing.T) {
+	dir := t.TempDir()
+	model := filepath.Join(dir, "m.json")
+	data := filepath.Join("testdata", "misread", "stray_class.csv")
+	out, errs, code := runSurety(t, "", "train", "--data", data, "--out", model, "--linear-voters", "0")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if !strings.Contains(out, "Warning: this certificate is no better than guessing") {
+		t.Errorf("no warning in the text:\n%s", out)
+	}
+	for _, args := range [][]string{
+		{"train", "--data", data, "--out", filepath.Join(dir, "m2.json"), "--linear-voters", "0", "--json"},
+		{"show", model, "--json"},
+	} {
+		out, errs, code := runSurety(t, "", args...)
+		if code != 0 {
+			t.Fatalf("%s exit %d: %s", args[0], code, errs)
+		}
+		var rep struct {
+			Certificate struct {
+				RiskBound     float64 `json:"risk_bound"`
+				Vacuous       bool    `json:"vacuous"`
+				MajorityGuess struct {
+					Error float64 `json:"error"`
+				} `json:"majority_guess"`
+			} `json:"certificate"`
+		}
+		if err := json.Unmarshal([]byte(out), &rep); err != nil {
+			t.Fatal(err)
+		}
+		c := rep.Certificate
+		if !c.Vacuous || c.MajorityGuess.Error <= 0 || c.RiskBound < c.MajorityGuess.Error {
+			t.Errorf("%s --json: certificate %+v", args[0], c)
+		}
+	}
+}

@@ -45,7 +45,7 @@ func (o *showOptions) run(ctx context.Context, args []string, e *env) error {
 	if o.output.json {
 		return writeJSON(e.stdout, map[string]any{
 			"model_path":  path,
-			"certificate": m.Certificate,
+			"certificate": certificateOf(m),
 			"statement":   m.Certificate.Sentence(),
 			"empirical":   m.Empirical,
 			"classes":     m.Classes,

@@ -82,7 +82,7 @@ func trainWithProgress(ctx context.Context, e *env, t *datasets.Table, cfg train
 // trainJSON is the --json output of train; its keys are documented in the
 // README.
 type trainJSON struct {
-	Certificate trainer.Certificate     `json:"certificate"`
+	Certificate certificateJSON         `json:"certificate"`
 	Statement   string                  `json:"statement"`
 	Empirical   trainer.Empirical       `json:"empirical"`
 	Data        dataJSON                `json:"data"`
@@ -91,6 +91,25 @@ type trainJSON struct {
 	Optimizer   trainer.OptimizerResult `json:"optimizer"`
 	ModelPath   string                  `json:"model_path"`
 	Cautions    []string                `json:"cautions"`
+}
+
+// certificateJSON is the model's certificate with the comparison to the
+// majority guess, which is computed when printed and not kept in the
+// model file.
+type certificateJSON struct {
+	trainer.Certificate
+	// Vacuous says the bound is no better than always answering the
+	// majority class (or is 1 or more).
+	Vacuous       bool           `json:"vacuous"`
+	MajorityGuess *trainer.Guess `json:"majority_guess,omitempty"`
+}
+
+func certificateOf(m *trainer.Model) certificateJSON {
+	c := certificateJSON{Certificate: m.Certificate, Vacuous: m.Vacuous()}
+	if g, ok := m.MajorityGuess(); ok {
+		c.MajorityGuess = &g
+	}
+	return c
 }
 
 type dataJSON struct {
@@ -115,7 +134,7 @@ type splitJSON struct {
 
 func trainReport(t *datasets.Table, m *trainer.Model, path string) trainJSON {
 	return trainJSON{
-		Certificate: m.Certificate,
+		Certificate: certificateOf(m),
 		Statement:   m.Certificate.Sentence(),
 		Empirical:   m.Empirical,
 		Data: dataJSON{Source: t.Source, Rows: t.Rows, Columns: len(t.Columns), Label: t.LabelName,
@@ -166,6 +185,9 @@ func printTrain(w io.Writer, t *datasets.Table, m *trainer.Model, path string) {
 func printCertificate(w io.Writer, m *trainer.Model) {
 	c := m.Certificate
 	fmt.Fprintln(w, c.Sentence())
+	if note := m.VacuousNote(); note != "" {
+		fmt.Fprintln(w, note)
+	}
 	if note := m.SweepNote(); note != "" {
 		fmt.Fprintln(w, note)
 	}

@@ -232,3 +232,23 @@ func TestWriteBadInput(t *testing.T) {
 }
 
 func zero() float64 { return 0 }
+
+// A certificate no better than always answering the majority class is
+// flagged in the warning style; a useful one is not.
+func TestWriteNoBetterThanGuessing(t *testing.T) {
+	in := fixture(t)
+	if html := render(t, in); strings.Contains(html, `id="certificate-no-better"`) {
+		t.Fatal("the fixture's certificate is flagged as no better than guessing")
+	}
+	m := *in.Model
+	g, ok := m.MajorityGuess()
+	if !ok {
+		t.Fatal("the fixture holds no class counts")
+	}
+	m.Certificate.RiskBound = g.Error
+	in.Model = &m
+	html := render(t, in)
+	if !strings.Contains(html, `class="certificate vacuous"`) || !strings.Contains(stdhtml.UnescapeString(html), m.VacuousNote()) {
+		t.Error("the page does not flag a certificate at the majority guess's error")
+	}
+}

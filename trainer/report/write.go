@@ -75,6 +75,9 @@ type view struct {
 	Family       string
 	Vote         string
 	Vacuous      bool
+	// NoBetter is the warning for a certificate no better than the
+	// majority guess; "" otherwise.
+	NoBetter     string
 	Meaning      []string
 	Ledger       []ledgerRow
 	PerClass     []classCertRow
@@ -169,6 +172,7 @@ func buildView(in Input, plots []Plot) view {
 		Family:       c.Family,
 		Vote:         c.Vote,
 		Vacuous:      !(c.RiskBound < 1),
+		NoBetter:     m.VacuousNote(),
 		Cautions:     trainer.Cautions,
 		VotersInPool: len(m.Vote.Voters),
 	}
