@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"unicode/utf8"
 )
 
 // Sentinel errors carried by a *ParseError; test for them with errors.Is.
@@ -53,8 +54,42 @@ type ParseError struct {
 	Err   error
 }
 
-// maxFieldShown bounds how much of a bad cell goes into the message.
-const maxFieldShown = 60
+// maxFieldShown bounds how much of a bad cell goes into the message;
+// maxBinaryShown bounds it for a cell of control bytes or invalid UTF-8 (a
+// binary file read as CSV), which prints escaped at up to four characters
+// a byte.
+const (
+	maxFieldShown  = 60
+	maxBinaryShown = 12
+)
+
+// excerpt returns the start of a cell for a message, cut at a character
+// boundary, with "..." when cut.
+func excerpt(f string) string {
+	limit := maxFieldShown
+	if !printable(f) {
+		limit = maxBinaryShown
+	}
+	if len(f) <= limit {
+		return f
+	}
+	for limit > 0 && !utf8.RuneStart(f[limit]) {
+		limit--
+	}
+	return f[:limit] + "..."
+}
+
+func printable(s string) bool {
+	if !utf8.ValidString(s) {
+		return false
+	}
+	for _, r := range s {
+		if r < 0x20 && r != '\t' || r == 0x7f {
+			return false
+		}
+	}
+	return true
+}
 
 func (e *ParseError) Error() string {
 	var b strings.Builder
@@ -75,11 +110,7 @@ func (e *ParseError) Error() string {
 		b.WriteString(": ")
 	}
 	if e.Field != "" {
-		f := e.Field
-		if len(f) > maxFieldShown {
-			f = f[:maxFieldShown] + "..."
-		}
-		fmt.Fprintf(&b, "%q: ", f)
+		fmt.Fprintf(&b, "%q: ", excerpt(e.Field))
 	}
 	if e.Err != nil {
 		b.WriteString(e.Err.Error())

@@ -127,3 +127,23 @@ func TestRareClassWarning(t *testing.T) {
 		t.Errorf("warnings %q", warns)
 	}
 }
+
+func TestErrorExcerpt(t *testing.T) {
+	tests := []struct {
+		name, field, want string
+	}{
+		{name: "short text", field: "twelve", want: "twelve"},
+		{name: "long text", field: strings.Repeat("a", 70), want: strings.Repeat("a", 60) + "..."},
+		// A cut inside a two-byte character backs up to its start.
+		{name: "cut at a character", field: strings.Repeat("a", 59) + "é" + "bbb", want: strings.Repeat("a", 59) + "..."},
+		{name: "binary", field: "\x7fELF\x02\x01\x01\x00\x00\x00\x00\x00\x00\x00\x00\x00\x03\x00", want: "\x7fELF\x02\x01\x01\x00\x00\x00\x00\x00..."},
+		{name: "invalid UTF-8", field: "\xff\xfe" + strings.Repeat("x", 20), want: "\xff\xfe" + strings.Repeat("x", 10) + "..."},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			if got := excerpt(tc.field); got != tc.want {
+				t.Errorf("excerpt = %q, want %q", got, tc.want)
+			}
+		})
+	}
+}

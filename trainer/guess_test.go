@@ -2,6 +2,7 @@ package trainer
 
 import (
 	"fmt"
+	"math"
 	"strings"
 	"testing"
 )
@@ -66,4 +67,24 @@ func ExampleModel_MajorityGuess() {
 	// Output:
 	// yes errs on 0.444; vacuous: true
 	// Warning: this certificate is no better than guessing: always answering "yes", the majority class, errs on 44.4% of the 9 certify rows, and the bound (70.3%) is not below that.
+}
+
+func TestFormatFigure(t *testing.T) {
+	tests := []struct {
+		name string
+		x    float64
+		want string
+	}{
+		{name: "negative zero from rounding", x: -1e-17, want: "0.0000"},
+		{name: "negative zero", x: math.Copysign(0, -1), want: "0.0000"},
+		{name: "small negative kept", x: -0.00006, want: "-0.0001"},
+		{name: "positive", x: 0.17704, want: "0.1770"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			if got := FormatFigure(tc.x); got != tc.want {
+				t.Errorf("FormatFigure(%g) = %q, want %q", tc.x, got, tc.want)
+			}
+		})
+	}
 }

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"path/filepath"
 
 	"github.com/spf13/pflag"
 
@@ -133,6 +134,19 @@ func readLabelled(e *env, d *dataFlags, m *trainer.Model, modelPath string) (*da
 	ro := m.ReadOptions()
 	ro.NoLabel, ro.Label, ro.OneClass = false, m.Label, true
 	return d.read(e, ro)
+}
+
+// makeFolder creates the folder of an output file when it is missing:
+// every command does, as sweep --out-dir creates its folder, so that no
+// command fails where another would have gone ahead (README, "Commands").
+// It is called just before the file is written, once the job succeeded,
+// so a failed run leaves no empty folder behind.
+func makeFolder(path string) error {
+	dir := filepath.Dir(path)
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("creating the folder of %s: %w", path, err)
+	}
+	return nil
 }
 
 // modelArg reads the model named by --model for a command that takes no

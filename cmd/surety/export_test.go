@@ -116,7 +116,8 @@ func TestExportErrors(t *testing.T) {
 		{"missing model file", []string{"--model", filepath.Join(dir, "nowhere.json"), "--format", "sql"}, 1, "no such file"},
 		{"not a model file", []string{"--model", notModel, "--format", "sql"}, 1, "not a model file"},
 		{"model that does not verify", []string{"--model", bad, "--format", "sql"}, 1, "not on the simplex"},
-		{"out in a missing folder", []string{"--model", model, "--format", "sql", "--out", filepath.Join(dir, "no", "vote.sql")}, 1, "does not exist"},
+		// A missing folder is created (README, "Commands"); a file in its place is an error.
+		{"out under a file", []string{"--model", model, "--format", "sql", "--out", filepath.Join(notModel, "vote.sql")}, 1, "creating the folder of"},
 		{"kept column named as an output", []string{"--model", model, "--format", "sql", "--keep", "margin"}, 1, `kept column "margin"`},
 	}
 	for _, tc := range cases {

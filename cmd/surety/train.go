@@ -58,6 +58,9 @@ func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
+	if err := makeFolder(o.out); err != nil {
+		return err
+	}
 	if err := trainer.WriteModel(o.out, m); err != nil {
 		return err
 	}
@@ -204,8 +207,8 @@ func printCertificate(w io.Writer, m *trainer.Model) {
 		lines++
 		also = ", the per-class and the cost certificates"
 	}
-	fmt.Fprintf(w, "\nledger: %s split over %s, %s (the smallest bound is kept)%s, m = %d certify rows, KL(Q||P) = %.4f\n",
-		share, counted(lines, "line", "lines"), counted(len(c.Families), "family", "families"), also, c.CertifyRows, m.Empirical.KL)
+	fmt.Fprintf(w, "\nledger: %s split over %s, %s (the smallest bound is kept)%s, m = %d certify rows, KL(Q||P) = %s\n",
+		share, counted(lines, "line", "lines"), counted(len(c.Families), "family", "families"), also, c.CertifyRows, trainer.FormatFigure(m.Empirical.KL))
 	fmt.Fprintf(w, "  %-20s %-11s %-10s %s\n", "family", "vote", "delta", "bound")
 	for _, f := range c.Families {
 		mark := ""
@@ -220,10 +223,10 @@ func printCertificate(w io.Writer, m *trainer.Model) {
 	}
 	printClassCertificates(w, m)
 	em := m.Empirical
-	fmt.Fprintf(w, "empirical on the certify rows: vote error %s, Gibbs risk %.4f, tandem risk %.4f",
-		pct(em.VoteError), em.GibbsRisk, em.TandemRisk)
+	fmt.Fprintf(w, "empirical on the certify rows: vote error %s, Gibbs risk %s, tandem risk %s",
+		pct(em.VoteError), trainer.FormatFigure(em.GibbsRisk), trainer.FormatFigure(em.TandemRisk))
 	if em.Disagreement != nil {
-		fmt.Fprintf(w, ", disagreement %.4f", *em.Disagreement)
+		fmt.Fprintf(w, ", disagreement %s", trainer.FormatFigure(*em.Disagreement))
 	}
 	fmt.Fprintln(w)
 }
@@ -239,7 +242,7 @@ func printClassCertificates(w io.Writer, m *trainer.Model) {
 			if cb.Reason != "" {
 				val = "none: " + cb.Reason
 			}
-			fmt.Fprintf(w, "    %-18s %5d rows %5d errors (%s)  %s\n", cb.Class, cb.Rows, cb.Errors, pct(float64(cb.Errors)/float64(max(cb.Rows, 1))), val)
+			fmt.Fprintf(w, "    %-18s %5d %-4s %5d %-6s (%s)  %s\n", cb.Class, cb.Rows, noun(cb.Rows, "row", "rows"), cb.Errors, noun(cb.Errors, "error", "errors"), pct(float64(cb.Errors)/float64(max(cb.Rows, 1))), val)
 		}
 	}
 	if cc := c.Cost; cc != nil {
@@ -273,6 +276,14 @@ func classCounts(t *datasets.Table) string {
 		fmt.Fprintf(&b, "%s %d", t.Classes[k], n)
 	}
 	return b.String()
+}
+
+// noun is one or many by n, for a count printed in its own column.
+func noun(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }
 
 // counted writes n with the singular or plural noun: "1 line", "8 lines".
