@@ -2,6 +2,8 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
+	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -108,5 +110,31 @@ func TestTrainVacuousCertificate(t *testing.T) {
 		if !c.Vacuous || c.MajorityGuess.Error <= 0 || c.RiskBound < c.MajorityGuess.Error {
 			t.Errorf("%s --json: certificate %+v", args[0], c)
 		}
+	}
+}
+
+// A model trained past the default cap on classes (--max-classes) is
+// verified against its training file without the flag: verify redoes the
+// training, whose classes are settled.
+func TestVerifyPastTheClassCap(t *testing.T) {
+	dir := t.TempDir()
+	var b strings.Builder
+	b.WriteString("x,grade\n")
+	for i := range 330 {
+		fmt.Fprintf(&b, "%d,%d\n", i%11*10+i%7, i%11)
+	}
+	data := filepath.Join(dir, "grades.csv")
+	if err := os.WriteFile(data, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	model := filepath.Join(dir, "m.json")
+	if _, errs, code := runSurety(t, "", "train", "--data", data, "--label", "grade", "--out", model, "--linear-voters", "0"); code != 1 || !strings.Contains(errs, "11 classes, more than 10") {
+		t.Fatalf("train without --max-classes: exit %d: %s", code, errs)
+	}
+	if _, errs, code := runSurety(t, "", "train", "--data", data, "--label", "grade", "--out", model, "--linear-voters", "0", "--max-classes", "11"); code != 0 {
+		t.Fatalf("train: exit %d: %s", code, errs)
+	}
+	if out, errs, code := runSurety(t, "", "verify", "--model", model, "--data", data); code != 0 {
+		t.Fatalf("verify: exit %d: %s\n%s", code, errs, out)
 	}
 }
