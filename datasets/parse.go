@@ -31,6 +31,7 @@ type plan struct {
 	label  int // field index of the label, -1 when none
 	drop   bool
 	miss   missingSet
+	comma  bool // read numbers with a decimal comma ("1,5")
 }
 
 // missingSet holds the missing tokens; first filters on the first byte so
@@ -85,6 +86,10 @@ type part struct {
 	levels                             []string
 	numbers, words, nonfinite, missing int
 	firstWord, firstNonFinite          cellRef
+	// commaWords counts the words that read as numbers with a decimal
+	// comma ("1,5"); firstComma is the first of them.
+	commaWords int
+	firstComma cellRef
 }
 
 func (p *part) reset() {
@@ -94,6 +99,7 @@ func (p *part) reset() {
 	p.levels = p.levels[:0]
 	p.numbers, p.words, p.nonfinite, p.missing = 0, 0, 0, 0
 	p.firstWord, p.firstNonFinite = cellRef{}, cellRef{}
+	p.commaWords, p.firstComma = 0, cellRef{}
 }
 
 func (p *part) code(b []byte) uint32 {
@@ -419,6 +425,11 @@ func (p *plan) cells(buf []byte, rec *record, res *result) *ParseError {
 			continue
 		}
 		v, k := parseNumber(b)
+		comma := k == cellWord && decimalComma(b)
+		if comma && p.comma {
+			v, k = parseNumber(bytes.Replace(b, []byte{','}, []byte{'.'}, 1))
+			comma = false
+		}
 		if k == cellNumber {
 			c.numbers++
 			c.nums = append(c.nums, v)
@@ -431,6 +442,9 @@ func (p *plan) cells(buf []byte, rec *record, res *result) *ParseError {
 			err := ErrNotNumber
 			if k == cellNonFinite {
 				err = ErrNotFinite
+			}
+			if comma {
+				err = ErrDecimalComma
 			}
 			return p.fieldErr(rec.lineAt(f), f, string(b), err)
 		}
@@ -451,6 +465,12 @@ func (p *plan) cells(buf []byte, rec *record, res *result) *ParseError {
 			c.words++
 			if c.firstWord.line == 0 {
 				c.firstWord = cellRef{rec.lineAt(f), string(b)}
+			}
+			if comma {
+				c.commaWords++
+				if c.firstComma.line == 0 {
+					c.firstComma = cellRef{rec.lineAt(f), string(b)}
+				}
 			}
 		}
 	}
@@ -552,6 +572,29 @@ func parseNumber(b []byte) (float64, cellKind) {
 		v = -v
 	}
 	return v, cellNumber
+}
+
+// decimalComma reports whether a cell reads as a number written with a
+// decimal comma: an optional sign, digits, one comma, digits ("-1,5").
+// Such cells are what a spreadsheet in many European locales writes.
+func decimalComma(b []byte) bool {
+	i := 0
+	if i < len(b) && (b[i] == '+' || b[i] == '-') {
+		i++
+	}
+	intDigits := 0
+	for i < len(b) && b[i]-'0' < 10 {
+		i, intDigits = i+1, intDigits+1
+	}
+	if intDigits == 0 || i == len(b) || b[i] != ',' {
+		return false
+	}
+	i++
+	fracDigits := 0
+	for i < len(b) && b[i]-'0' < 10 {
+		i, fracDigits = i+1, fracDigits+1
+	}
+	return fracDigits > 0 && i == len(b)
 }
 
 func parseSlow(b []byte) (float64, cellKind) {

@@ -55,6 +55,20 @@ type ReadOptions struct {
 	// shape no kind. Without it, a column whose non-missing cells are over
 	// 90% numbers but not all is an error (ErrStrayWord, ErrNotFinite).
 	DeferKinds bool
+	// DecimalComma reads cells written with a decimal comma ("1,5",
+	// "-0,25") as numbers. Without it, an inferred column whose only
+	// non-numbers are such cells is an error (ErrDecimalComma) rather than
+	// a silently categorical column, and so is such a cell in a column
+	// forced numeric.
+	DecimalComma bool
+	// MaxClasses caps the number of classes of the label. 0 means the
+	// default rule: at most max(10, Rows/10) classes, and at most 10 when
+	// every class name is a number (a numeric label with many values is
+	// more likely a quantity to predict than a set of classes). A negative
+	// value means no cap. More classes is an error (ErrTooManyClasses).
+	// The cap does not apply with OneClass (fresh rows checked against a
+	// model, whose classes are the model's).
+	MaxClasses int
 	// DropMissingLabel drops rows whose label is missing instead of failing;
 	// Table.DroppedRows counts them.
 	DropMissingLabel bool
@@ -150,7 +164,7 @@ func sizeOf(r io.Reader) int64 {
 // newPlan reads the header from the first block and resolves the options
 // against it. It returns the first block with the header removed.
 func newPlan(file string, delim byte, first chunk, opts ReadOptions) (*plan, chunk, *ParseError) {
-	p := &plan{file: file, delim: delim, trimTb: delim != '\t', label: -1, drop: opts.DropMissingLabel}
+	p := &plan{file: file, delim: delim, trimTb: delim != '\t', label: -1, drop: opts.DropMissingLabel, comma: opts.DecimalComma}
 	tokens := opts.MissingTokens
 	if tokens == nil {
 		tokens = DefaultMissingTokens
@@ -324,6 +338,8 @@ type colState struct {
 	levels                             []string
 	numbers, words, nonfinite, missing int
 	firstWord, firstNonFinite          cellRef
+	commaWords                         int
+	firstComma                         cellRef
 }
 
 type merger struct {
@@ -430,6 +446,10 @@ func (m *merger) merge(res *result) {
 		if c.firstNonFinite.line == 0 {
 			c.firstNonFinite = part.firstNonFinite
 		}
+		c.commaWords += part.commaWords
+		if c.firstComma.line == 0 {
+			c.firstComma = part.firstComma
+		}
 	}
 	m.rows = need
 	m.dropped += res.dropped
@@ -462,7 +482,7 @@ func (m *merger) finish(opts ReadOptions) (*Table, *ParseError) {
 		}
 		switch c.mode {
 		case modeLabel:
-			if perr := m.label(t, c, name, opts.OneClass); perr != nil {
+			if perr := m.label(t, c, name, opts); perr != nil {
 				return nil, perr
 			}
 			continue
@@ -475,6 +495,11 @@ func (m *merger) finish(opts ReadOptions) (*Table, *ParseError) {
 			if c.words+c.nonfinite == 0 {
 				t.Columns = append(t.Columns, Column{Name: name, Kind: Numeric, Num: c.nums, Missing: c.missing, Inferred: true})
 				continue
+			}
+			if c.commaWords == c.words && c.nonfinite == 0 {
+				return nil, colErr(c.firstComma, fmt.Errorf(
+					"%w: every one of the column's %d non-numbers looks like a number with a decimal comma; read the file with the decimal-comma option, or force the column categorical if the comma separates thousands or the cells are codes",
+					ErrDecimalComma, c.words))
 			}
 			nonMissing := c.numbers + c.words + c.nonfinite
 			share := float64(c.numbers+c.nonfinite) / float64(nonMissing)
@@ -502,8 +527,11 @@ func (m *merger) finish(opts ReadOptions) (*Table, *ParseError) {
 }
 
 // label sorts the class names and turns the codes into class indices; a
-// single class is an error unless oneClass.
-func (m *merger) label(t *Table, c *colState, name string, oneClass bool) *ParseError {
+// single class is an error unless opts.OneClass, and so are more classes
+// than opts.MaxClasses allows. A rare class of fewer than fewRows rows is
+// warned about: one stray label value quietly adds a class.
+func (m *merger) label(t *Table, c *colState, name string, opts ReadOptions) *ParseError {
+	oneClass := opts.OneClass
 	if len(c.levels) < 2 && !(oneClass && len(c.levels) == 1) {
 		e := &ParseError{File: m.p.file, Column: c.field + 1, ColumnName: name, Err: ErrOneClass}
 		if len(c.levels) == 1 {
@@ -522,7 +550,57 @@ func (m *merger) label(t *Table, c *colState, name string, oneClass bool) *Parse
 	for i, code := range c.codes {
 		t.Label[i] = idx[code]
 	}
+	if oneClass {
+		return nil
+	}
+	if limit, why := classCap(opts.MaxClasses, m.rows, t.Classes); limit >= 0 && len(t.Classes) > limit {
+		return &ParseError{File: m.p.file, Column: c.field + 1, ColumnName: name,
+			Err: fmt.Errorf("%w: %d classes, more than %d (%s); is it a quantity rather than a class? Raise the cap on classes if it is meant", ErrTooManyClasses, len(t.Classes), limit, why)}
+	}
+	for k, n := range t.ClassCounts() {
+		if n < fewRows && n*20 < m.rows {
+			m.warn(opts, "label %q: class %q has only %s; a stray label value? (add it to the missing tokens and drop rows with a missing label if so)", name, t.Classes[k], plural(n, "row"))
+		}
+	}
 	return nil
+}
+
+// fewRows is the class size under which a class is warned about, when it
+// is also under 5% of the rows (a tiny file's small classes are no
+// surprise): fewer rows than this cannot show much of a class (common
+// practice, no source).
+const fewRows = 5
+
+// classCap returns the cap on the number of classes and why, -1 for none.
+// The default rule (set 0) is a judgement call, common practice, no
+// source: a tenth of the rows, at least 10, and 10 for a label whose
+// class names are all numbers (digits 0..9 pass; a measured quantity with
+// hundreds of values does not).
+func classCap(set, rows int, classes []string) (int, string) {
+	switch {
+	case set < 0:
+		return -1, ""
+	case set > 0:
+		return set, "the cap set"
+	}
+	numeric := true
+	for _, c := range classes {
+		if _, k := parseNumber([]byte(c)); k != cellNumber {
+			numeric = false
+			break
+		}
+	}
+	if numeric {
+		return 10, "the default cap for a label whose values are all numbers"
+	}
+	return max(rows/10, 10), "the default cap: a tenth of the rows, at least 10"
+}
+
+func plural(n int, noun string) string {
+	if n == 1 {
+		return "1 " + noun
+	}
+	return fmt.Sprintf("%d %ss", n, noun)
 }
 
 // mixed builds a categorical column from an inferred column holding both

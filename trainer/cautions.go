@@ -43,6 +43,18 @@ func Percent(x float64, up bool) string {
 	return strconv.FormatFloat(v/scale, 'f', -1, 64) + "%"
 }
 
+// FormatFigure prints a figure (a risk, a weight, a KL divergence) at four
+// decimals, rounded to nearest, without the sign of a value that rounds to
+// zero: a KL of -1e-17 from rounding reads 0.0000, not -0.0000. Bounds go
+// through FormatBound, which rounds up.
+func FormatFigure(x float64) string {
+	s := strconv.FormatFloat(x, 'f', 4, 64)
+	if s == "-0.0000" {
+		return "0.0000"
+	}
+	return s
+}
+
 // FormatBound prints an upper bound at four decimals, rounded up, so a
 // table never shows less than the bound it stands for; a bound of 1 or
 // more says nothing about an error rate, and prints as "no bound (>= 1)".

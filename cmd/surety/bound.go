@@ -175,7 +175,7 @@ func (c *boundOptions) bounds() []boundLine {
 	fresh := needs(hasFresh)
 	add("test_set", groupFresh, fresh, func() (objective.Bound, string, error) {
 		b, err := objective.TestSetBound(c.errors, c.n, d)
-		return b, fmt.Sprintf("%d errors on %d rows: binomial tail inversion (one-sided Clopper-Pearson)", c.errors, c.n), err
+		return b, fmt.Sprintf("%s on %s: binomial tail inversion (one-sided Clopper-Pearson)", counted(c.errors, "error", "errors"), counted(c.n, "row", "rows")), err
 	})
 	add("population", groupFresh, needs(hasFresh, []req{{c.popFlag.set, "--population"}}), func() (objective.Bound, string, error) {
 		b, err := objective.PopulationBound(c.errors, c.n, c.population, d)

@@ -1,8 +1,10 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"os"
+	"path/filepath"
 
 	"github.com/spf13/pflag"
 
@@ -23,6 +25,8 @@ type dataFlags struct {
 	categorical      []string
 	ignore           []string
 	dropMissingLabel bool
+	decimalComma     bool
+	maxClasses       int
 }
 
 func (d *dataFlags) AddFlags(fs *pflag.FlagSet, withLabel bool) {
@@ -34,12 +38,14 @@ func (d *dataFlags) AddFlags(fs *pflag.FlagSet, withLabel bool) {
 	if withLabel {
 		fs.StringVar(&d.label, "label", "", "label column `name` (default: the column named \"label\")")
 		fs.BoolVar(&d.dropMissingLabel, "drop-missing-label", false, "drop rows whose label is missing instead of failing")
+		fs.IntVar(&d.maxClasses, "max-classes", 0, "most classes the label may have; 0: a tenth of the rows (at least 10), 10 for a label of numbers; -1: no cap")
 	}
 	fs.BoolVar(&d.noHeader, "no-header", false, "the file has no header row; columns are named c1..cN")
 	fs.Var(&d.delimiter, "delimiter", "field delimiter: one of , ; | or \"tab\" (default: detected from the first line)")
 	fs.StringSliceVar(&d.missing, "missing", nil, "cell `values` that mean missing (default: empty, NA, N/A, NaN, null, ?)")
 	fs.StringSliceVar(&d.categorical, "categorical", nil, "read these `columns` as categories even if they hold numbers")
 	fs.StringSliceVar(&d.ignore, "ignore", nil, "leave these `columns` out")
+	fs.BoolVar(&d.decimalComma, "decimal-comma", false, "read cells such as 1,5 as numbers (a decimal comma)")
 }
 
 // options turns the flags into reader options; base carries what the
@@ -51,6 +57,10 @@ func (d *dataFlags) options(base datasets.ReadOptions, warn func(string)) datase
 		o.Label = d.label
 	}
 	o.DropMissingLabel = d.dropMissingLabel
+	o.DecimalComma = d.decimalComma
+	if d.maxClasses != 0 {
+		o.MaxClasses = d.maxClasses
+	}
 	if d.missing != nil {
 		o.MissingTokens = d.missing
 	}
@@ -71,10 +81,24 @@ func (d *dataFlags) read(e *env, base datasets.ReadOptions) (*datasets.Table, er
 	}
 	stop := e.spinner("reading " + d.path)
 	defer stop()
+	var t *datasets.Table
 	if d.path == "-" {
-		return datasets.Read(e.stdin, "-", o)
+		t, err = datasets.Read(e.stdin, "-", o)
+	} else {
+		t, err = datasets.ReadFile(d.path, o)
 	}
-	return datasets.ReadFile(d.path, o)
+	return t, flagHint(err)
+}
+
+// flagHint adds the flag that answers a read error, where one does.
+func flagHint(err error) error {
+	switch {
+	case errors.Is(err, datasets.ErrDecimalComma):
+		return fmt.Errorf("%w (--decimal-comma)", err)
+	case errors.Is(err, datasets.ErrTooManyClasses):
+		return fmt.Errorf("%w (--max-classes N)", err)
+	}
+	return err
 }
 
 // prepare checks that --data names a file (or - for standard input) and
@@ -110,6 +134,19 @@ func readLabelled(e *env, d *dataFlags, m *trainer.Model, modelPath string) (*da
 	ro := m.ReadOptions()
 	ro.NoLabel, ro.Label, ro.OneClass = false, m.Label, true
 	return d.read(e, ro)
+}
+
+// makeFolder creates the folder of an output file when it is missing:
+// every command does, as sweep --out-dir creates its folder, so that no
+// command fails where another would have gone ahead (README, "Commands").
+// It is called just before the file is written, once the job succeeded,
+// so a failed run leaves no empty folder behind.
+func makeFolder(path string) error {
+	dir := filepath.Dir(path)
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return fmt.Errorf("creating the folder of %s: %w", path, err)
+	}
+	return nil
 }
 
 // modelArg reads the model named by --model for a command that takes no

@@ -66,6 +66,9 @@ func (o *demoOptions) run(ctx context.Context, args []string, e *env) error {
 	if err := demodata.Write(&buf, demodata.Config{Rows: o.rows}, cfg.Seed); err != nil {
 		return err
 	}
+	if err := makeFolder(dataPath); err != nil {
+		return err
+	}
 	if err := atomicfile.Write(dataPath, buf.Bytes()); err != nil {
 		return err
 	}
@@ -92,6 +95,6 @@ func (o *demoOptions) run(ctx context.Context, args []string, e *env) error {
 	fmt.Fprintf(e.stdout, "demo: %d rows of generated pipe-inspection data (label %q: does a pipe segment leak within a year), written to %s\n\n", t.Rows, demodata.Label, dataPath)
 	printTrain(e.stdout, t, m, out)
 	fmt.Fprintf(e.stdout, "\ntrue error, measured on %d fresh rows from the same generator: %s (certificate %s; best possible %s, the label noise)\n",
-		meas.Rows, pct(meas.ErrorRate), pct(m.Certificate.RiskBound), pct(meas.BayesError))
+		meas.Rows, pct(meas.ErrorRate), trainer.Percent(m.Certificate.RiskBound, true), pct(meas.BayesError))
 	return nil
 }

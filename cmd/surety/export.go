@@ -225,6 +225,9 @@ func (o *exportOptions) run(ctx context.Context, args []string, e *env) error {
 	if ext := filepath.Ext(o.out); ext != f.ext {
 		e.warn(fmt.Sprintf("writing %s to %s, whose extension is not %s", f.name, o.out, f.ext))
 	}
+	if err := makeFolder(o.out); err != nil {
+		return err
+	}
 	if err := atomicfile.Write(o.out, b.Bytes()); err != nil {
 		return err
 	}

@@ -163,13 +163,14 @@ func TestExportErrors(t *testing.T) {
 		{"missing model file", []string{"--model", filepath.Join(dir, "nowhere.json"), "--format", "sql"}, 1, "no such file"},
 		{"not a model file", []string{"--model", notModel, "--format", "sql"}, 1, "not a model file"},
 		{"model that does not verify", []string{"--model", bad, "--format", "sql"}, 1, "not on the simplex"},
-		{"out in a missing folder", []string{"--model", model, "--format", "sql", "--out", filepath.Join(dir, "no", "vote.sql")}, 1, "does not exist"},
+		// A missing folder is created (README, "Commands"); a file in its place is an error.
+		{"out under a file", []string{"--model", model, "--format", "sql", "--out", filepath.Join(notModel, "vote.sql")}, 1, "creating the folder of"},
 		{"kept column named as an output", []string{"--model", model, "--format", "sql", "--keep", "margin"}, 1, `kept column "margin"`},
 		{"onnx without out", []string{"--model", model, "--format", "onnx"}, 2, "--format onnx writes a binary file: name it with --out"},
 		{"onnx with a table", []string{"--model", model, "--format", "onnx", "--table", "x", "--out", filepath.Join(dir, "vote.onnx")}, 2, "--table, --keep and --class-weights apply to --format sql only"},
 		{"onnx with kept columns", []string{"--model", model, "--format", "onnx", "--keep", "id", "--out", filepath.Join(dir, "vote.onnx")}, 2, "apply to --format sql only"},
 		{"onnx of a model that does not verify", []string{"--model", bad, "--format", "onnx", "--out", filepath.Join(dir, "vote.onnx")}, 1, "not on the simplex"},
-		{"onnx to a missing folder", []string{"--model", model, "--format", "onnx", "--out", filepath.Join(dir, "no", "vote.onnx")}, 1, "does not exist"},
+		{"onnx under a file", []string{"--model", model, "--format", "onnx", "--out", filepath.Join(notModel, "vote.onnx")}, 1, "creating the folder of"},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {

@@ -20,6 +20,8 @@ import (
 	"strings"
 
 	"github.com/spf13/pflag"
+
+	"surety/trainer"
 )
 
 // command is one subcommand: its options struct registers its flags, then
@@ -95,6 +97,10 @@ func dispatch(ctx context.Context, args []string, e *env) int {
 		}
 		return 0
 	}
+	if args[0] == "--version" || args[0] == "version" {
+		fmt.Fprintf(e.stdout, "surety %s\n", trainer.Version)
+		return 0
+	}
 	r, ok := registry[args[0]]
 	if !ok {
 		fmt.Fprintf(e.stderr, "surety: unknown command %q (run `surety help`)\n", args[0])
@@ -152,11 +158,37 @@ func printUsage(w io.Writer) {
 	var b strings.Builder
 	b.WriteString("surety trains a weighted majority vote of simple voters on a CSV file\nand certifies its error rate with a PAC-Bayesian bound.\n\nusage: surety COMMAND [flags]\n\ncommands:\n")
 	for _, n := range names {
-		fmt.Fprintf(&b, "  %-*s  %s\n", width, n, registry[n].summary)
+		fmt.Fprintf(&b, "  %-*s  %s\n", width, n, firstLine(registry[n].summary, width+4))
 	}
 	b.WriteString("\nRun `surety COMMAND --help` for a command's flags.\n")
 	b.WriteString(exitCodes)
 	io.WriteString(w, b.String())
+}
+
+// firstLine gives a command's summary for the listing: a summary written
+// over several lines (bound's) is joined and cut to its first sentence,
+// and a long one wraps under its own column rather than at column 0.
+func firstLine(summary string, indent int) string {
+	s := strings.Join(strings.Fields(summary), " ")
+	if i := strings.Index(s, ". "); i >= 0 {
+		s = s[:i+1]
+	}
+	const width = 100
+	var b strings.Builder
+	col := indent
+	for i, w := range strings.Fields(s) {
+		switch {
+		case i > 0 && col+1+len(w) > width:
+			b.WriteString("\n" + strings.Repeat(" ", indent))
+			col = indent
+		case i > 0:
+			b.WriteByte(' ')
+			col++
+		}
+		b.WriteString(w)
+		col += len(w)
+	}
+	return b.String()
 }
 
 func isTerminal(f *os.File) bool {

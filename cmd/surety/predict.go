@@ -67,6 +67,9 @@ func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 	var dst io.Writer = e.stdout
 	var file *atomicfile.File
 	if o.out != "" {
+		if err := makeFolder(o.out); err != nil {
+			return err
+		}
 		if file, err = atomicfile.Create(o.out); err != nil {
 			return err
 		}
@@ -109,7 +112,7 @@ func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 	}
 	stop()
 	if err != nil {
-		return err
+		return flagHint(err)
 	}
 	if collect {
 		preds := make([]predictionJSON, len(cls))

@@ -86,6 +86,9 @@ func (o *reportOptions) run(ctx context.Context, args []string, e *env) error {
 	if err := report.Write(&page, in); err != nil {
 		return err
 	}
+	if err := makeFolder(o.out); err != nil {
+		return err
+	}
 	if err := atomicfile.Write(o.out, page.Bytes()); err != nil {
 		return err
 	}

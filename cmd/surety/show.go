@@ -45,7 +45,7 @@ func (o *showOptions) run(ctx context.Context, args []string, e *env) error {
 	if o.output.json {
 		return writeJSON(e.stdout, map[string]any{
 			"model_path":  path,
-			"certificate": m.Certificate,
+			"certificate": certificateOf(m),
 			"statement":   m.Certificate.Sentence(),
 			"empirical":   m.Empirical,
 			"classes":     m.Classes,
@@ -65,7 +65,7 @@ func printShow(w io.Writer, path string, m *trainer.Model, rules []trainer.Rule)
 	printCertificate(w, m)
 	fmt.Fprintf(w, "\nheaviest voters (%d of %d):\n", len(rules), len(m.Vote.Voters))
 	for _, r := range rules {
-		fmt.Fprintf(w, "  %.4f  %s\n", r.Weight, r.Rule)
+		fmt.Fprintf(w, "  %s  %s\n", trainer.FormatFigure(r.Weight), r.Rule)
 	}
 	fmt.Fprintf(w, "\nprovenance:\n")
 	fmt.Fprintf(w, "  data         %s, %d rows, sha256 %s\n", p.Source, p.Rows, p.Data.SHA256)

@@ -94,7 +94,7 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 
 func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir string) {
 	m0 := res.Models[0].Provenance
-	fmt.Fprintf(w, "data   %s: %d rows, label %q with %d classes\n", t.Source, t.Rows, t.LabelName, len(t.Classes))
+	fmt.Fprintf(w, "data   %s: %d rows, label %q with %d classes (%s)\n", t.Source, t.Rows, t.LabelName, len(t.Classes), classCounts(t))
 	fmt.Fprintf(w, "split  %d prior rows, %d certify rows (seed %d), pool of %d voters, the same for all %d settings\n\n",
 		m0.PriorRows, m0.CertifyRows, m0.Seed, m0.PoolSize, res.K)
 	hasTest := res.Rows[0].Test != nil
@@ -111,7 +111,7 @@ func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir
 	fmt.Fprintln(w, head)
 	fmt.Fprintln(w, strings.TrimRight(sub, " "))
 	for i, r := range res.Rows {
-		line := fmt.Sprintf("  %-*s  %11s  %11s  %-18s  %10s  %8.4f  %7d", width, r.Name, trainer.FormatBound(r.Certificate), trainer.FormatBound(r.SelectionCertificate), r.Family, pct(r.VoteError), r.KL, r.HeavyVoters)
+		line := fmt.Sprintf("  %-*s  %11s  %11s  %-18s  %10s  %8s  %7d", width, r.Name, trainer.FormatBound(r.Certificate), trainer.FormatBound(r.SelectionCertificate), r.Family, pct(r.VoteError), trainer.FormatFigure(r.KL), r.HeavyVoters)
 		if hasTest {
 			line += fmt.Sprintf("  %10s  %10s", pct(r.Test.ErrorRate), trainer.FormatBound(r.Test.Bound))
 		}
@@ -134,8 +134,8 @@ func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir
 		fmt.Fprintf(w, "The test bounds hold one setting at a time (each at delta = %g, not corrected for the %d settings): do not select by them.\n", res.Delta, res.K)
 	}
 	if outDir != "" {
-		fmt.Fprintf(w, "\nwritten to %s: %d model files, selected.json (the selected model, certified at delta / %d), sweep.csv, sweep.json\n",
-			outDir, res.K, res.K)
+		fmt.Fprintf(w, "\nwritten to %s: %s, selected.json (the selected model, certified at delta / %d), sweep.csv, sweep.json\n",
+			outDir, counted(res.K, "model file", "model files"), res.K)
 	}
 	fmt.Fprintln(w)
 	printCautions(w)

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strings"
 
 	"github.com/spf13/pflag"
 
@@ -57,6 +58,9 @@ func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
+	if err := makeFolder(o.out); err != nil {
+		return err
+	}
 	if err := trainer.WriteModel(o.out, m); err != nil {
 		return err
 	}
@@ -81,7 +85,7 @@ func trainWithProgress(ctx context.Context, e *env, t *datasets.Table, cfg train
 // trainJSON is the --json output of train; its keys are documented in the
 // README.
 type trainJSON struct {
-	Certificate trainer.Certificate     `json:"certificate"`
+	Certificate certificateJSON         `json:"certificate"`
 	Statement   string                  `json:"statement"`
 	Empirical   trainer.Empirical       `json:"empirical"`
 	Data        dataJSON                `json:"data"`
@@ -92,12 +96,33 @@ type trainJSON struct {
 	Cautions    []string                `json:"cautions"`
 }
 
+// certificateJSON is the model's certificate with the comparison to the
+// majority guess, which is computed when printed and not kept in the
+// model file.
+type certificateJSON struct {
+	trainer.Certificate
+	// Vacuous says the bound is no better than always answering the
+	// majority class (or is 1 or more).
+	Vacuous       bool           `json:"vacuous"`
+	MajorityGuess *trainer.Guess `json:"majority_guess,omitempty"`
+}
+
+func certificateOf(m *trainer.Model) certificateJSON {
+	c := certificateJSON{Certificate: m.Certificate, Vacuous: m.Vacuous()}
+	if g, ok := m.MajorityGuess(); ok {
+		c.MajorityGuess = &g
+	}
+	return c
+}
+
 type dataJSON struct {
-	Source      string               `json:"source"`
-	Rows        int                  `json:"rows"`
-	Columns     int                  `json:"feature_columns"`
-	Label       string               `json:"label"`
-	Classes     []string             `json:"classes"`
+	Source  string   `json:"source"`
+	Rows    int      `json:"rows"`
+	Columns int      `json:"feature_columns"`
+	Label   string   `json:"label"`
+	Classes []string `json:"classes"`
+	// ClassCounts holds the rows of each class, indexed like Classes.
+	ClassCounts []int                `json:"class_counts"`
 	Fingerprint datasets.Fingerprint `json:"fingerprint"`
 	// KindChanges lists the columns read as categorical that the prior
 	// rows made numeric.
@@ -112,11 +137,11 @@ type splitJSON struct {
 
 func trainReport(t *datasets.Table, m *trainer.Model, path string) trainJSON {
 	return trainJSON{
-		Certificate: m.Certificate,
+		Certificate: certificateOf(m),
 		Statement:   m.Certificate.Sentence(),
 		Empirical:   m.Empirical,
 		Data: dataJSON{Source: t.Source, Rows: t.Rows, Columns: len(t.Columns), Label: t.LabelName,
-			Classes: t.Classes, Fingerprint: t.Fingerprint, KindChanges: m.Provenance.KindChanges},
+			Classes: t.Classes, ClassCounts: t.ClassCounts(), Fingerprint: t.Fingerprint, KindChanges: m.Provenance.KindChanges},
 		Split:     splitJSON{Seed: m.Provenance.Seed, PriorRows: m.Provenance.PriorRows, CertifyRows: m.Provenance.CertifyRows},
 		PoolSize:  m.Provenance.PoolSize,
 		Optimizer: m.Provenance.Optimizer,
@@ -148,6 +173,7 @@ func printTrain(w io.Writer, t *datasets.Table, m *trainer.Model, path string) {
 	p := m.Provenance
 	fmt.Fprintf(w, "data       %s: %d rows, %d feature columns (%d numeric, %d categorical), label %q with %d classes\n",
 		t.Source, t.Rows, len(t.Columns), num, cat, t.LabelName, len(t.Classes))
+	fmt.Fprintf(w, "classes    %s\n", classCounts(t))
 	fmt.Fprintf(w, "split      %d prior rows build the pool and the prior, %d certify rows (seed %d)\n", p.PriorRows, p.CertifyRows, p.Seed)
 	fmt.Fprintf(w, "pool       %d voters\n", p.PoolSize)
 	fmt.Fprintf(w, "optimiser  %s objective from the %s start: value %.6g, %s\n",
@@ -162,6 +188,9 @@ func printTrain(w io.Writer, t *datasets.Table, m *trainer.Model, path string) {
 func printCertificate(w io.Writer, m *trainer.Model) {
 	c := m.Certificate
 	fmt.Fprintln(w, c.Sentence())
+	if note := m.VacuousNote(); note != "" {
+		fmt.Fprintln(w, note)
+	}
 	if note := m.SweepNote(); note != "" {
 		fmt.Fprintln(w, note)
 	}
@@ -178,8 +207,8 @@ func printCertificate(w io.Writer, m *trainer.Model) {
 		lines++
 		also = ", the per-class and the cost certificates"
 	}
-	fmt.Fprintf(w, "\nledger: %s split over %s, %s (the smallest bound is kept)%s, m = %d certify rows, KL(Q||P) = %.4f\n",
-		share, counted(lines, "line", "lines"), counted(len(c.Families), "family", "families"), also, c.CertifyRows, m.Empirical.KL)
+	fmt.Fprintf(w, "\nledger: %s split over %s, %s (the smallest bound is kept)%s, m = %d certify rows, KL(Q||P) = %s\n",
+		share, counted(lines, "line", "lines"), counted(len(c.Families), "family", "families"), also, c.CertifyRows, trainer.FormatFigure(m.Empirical.KL))
 	fmt.Fprintf(w, "  %-20s %-11s %-10s %s\n", "family", "vote", "delta", "bound")
 	for _, f := range c.Families {
 		mark := ""
@@ -194,10 +223,10 @@ func printCertificate(w io.Writer, m *trainer.Model) {
 	}
 	printClassCertificates(w, m)
 	em := m.Empirical
-	fmt.Fprintf(w, "empirical on the certify rows: vote error %s, Gibbs risk %.4f, tandem risk %.4f",
-		pct(em.VoteError), em.GibbsRisk, em.TandemRisk)
+	fmt.Fprintf(w, "empirical on the certify rows: vote error %s, Gibbs risk %s, tandem risk %s",
+		pct(em.VoteError), trainer.FormatFigure(em.GibbsRisk), trainer.FormatFigure(em.TandemRisk))
 	if em.Disagreement != nil {
-		fmt.Fprintf(w, ", disagreement %.4f", *em.Disagreement)
+		fmt.Fprintf(w, ", disagreement %s", trainer.FormatFigure(*em.Disagreement))
 	}
 	fmt.Fprintln(w)
 }
@@ -213,7 +242,7 @@ func printClassCertificates(w io.Writer, m *trainer.Model) {
 			if cb.Reason != "" {
 				val = "none: " + cb.Reason
 			}
-			fmt.Fprintf(w, "    %-18s %5d rows %5d errors (%s)  %s\n", cb.Class, cb.Rows, cb.Errors, pct(float64(cb.Errors)/float64(max(cb.Rows, 1))), val)
+			fmt.Fprintf(w, "    %-18s %5d %-4s %5d %-6s (%s)  %s\n", cb.Class, cb.Rows, noun(cb.Rows, "row", "rows"), cb.Errors, noun(cb.Errors, "error", "errors"), pct(float64(cb.Errors)/float64(max(cb.Rows, 1))), val)
 		}
 	}
 	if cc := c.Cost; cc != nil {
@@ -234,6 +263,27 @@ func printCautions(w io.Writer) {
 	for _, c := range trainer.Cautions {
 		fmt.Fprintf(w, "- %s\n", c)
 	}
+}
+
+// classCounts lists each class with its rows, in the table's class
+// order: "leak 650, sound 550".
+func classCounts(t *datasets.Table) string {
+	var b strings.Builder
+	for k, n := range t.ClassCounts() {
+		if k > 0 {
+			b.WriteString(", ")
+		}
+		fmt.Fprintf(&b, "%s %d", t.Classes[k], n)
+	}
+	return b.String()
+}
+
+// noun is one or many by n, for a count printed in its own column.
+func noun(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }
 
 // counted writes n with the singular or plural noun: "1 line", "8 lines".

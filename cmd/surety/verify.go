@@ -61,7 +61,9 @@ func (o *verifyOptions) run(ctx context.Context, args []string, e *env) error {
 		out.Ledger = trainer.AuditLedger(m)
 		out.Match, out.First = out.Ledger.Problem == "", out.Ledger.Problem
 	} else {
-		ro := datasets.ReadOptions{DeferKinds: true, Label: m.Label}
+		// No cap on classes: the model's classes were settled when it was
+		// trained (with --max-classes, perhaps), and verify redoes that work.
+		ro := datasets.ReadOptions{DeferKinds: true, Label: m.Label, MaxClasses: -1}
 		t, err := o.data.read(e, ro)
 		if err != nil {
 			return err

@@ -251,3 +251,25 @@ func TestWriteBadInput(t *testing.T) {
 }
 
 func zero() float64 { return 0 }
+
+// A certificate no better than always answering the majority class is
+// flagged in the warning style; a useful one is not.
+func TestWriteNoBetterThanGuessing(t *testing.T) {
+	in := fixture(t)
+	if html := render(t, in); strings.Contains(html, `id="certificate-no-better"`) {
+		t.Fatal("the fixture's certificate is flagged as no better than guessing")
+	}
+	m := *in.Model
+	g, ok := m.MajorityGuess()
+	if !ok {
+		t.Fatal("the fixture holds no class counts")
+	}
+	m.Certificate.RiskBound = g.Error
+	// The edited model is another model: the fixture's monitoring ledger,
+	// which names the original, would be refused.
+	in.Model, in.Monitor = &m, nil
+	html := render(t, in)
+	if !strings.Contains(html, `class="certificate vacuous"`) || !strings.Contains(stdhtml.UnescapeString(html), m.VacuousNote()) {
+		t.Error("the page does not flag a certificate at the majority guess's error")
+	}
+}

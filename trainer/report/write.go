@@ -85,6 +85,9 @@ type view struct {
 	Family       string
 	Vote         string
 	Vacuous      bool
+	// NoBetter is the warning for a certificate no better than the
+	// majority guess; "" otherwise.
+	NoBetter     string
 	Meaning      []string
 	Ledger       []ledgerRow
 	PerClass     []classCertRow
@@ -180,6 +183,7 @@ func buildView(in Input, plots []Plot) view {
 		Family:       c.Family,
 		Vote:         c.Vote,
 		Vacuous:      !(c.RiskBound < 1),
+		NoBetter:     m.VacuousNote(),
 		Cautions:     trainer.Cautions,
 		VotersInPool: len(m.Vote.Voters),
 	}
@@ -216,13 +220,13 @@ func buildView(in Input, plots []Plot) view {
 	v.Empirical = [][2]string{
 		{"certify rows (m)", strconv.Itoa(e.M)},
 		{"vote error on the certify rows", fmtRate(e.VoteError)},
-		{"Gibbs risk r(Q)", strconv.FormatFloat(e.GibbsRisk, 'f', 4, 64)},
-		{"tandem risk t(Q)", strconv.FormatFloat(e.TandemRisk, 'f', 4, 64)},
+		{"Gibbs risk r(Q)", trainer.FormatFigure(e.GibbsRisk)},
+		{"tandem risk t(Q)", trainer.FormatFigure(e.TandemRisk)},
 	}
 	if e.Disagreement != nil {
-		v.Empirical = append(v.Empirical, [2]string{"disagreement d(Q)", strconv.FormatFloat(*e.Disagreement, 'f', 4, 64)})
+		v.Empirical = append(v.Empirical, [2]string{"disagreement d(Q)", trainer.FormatFigure(*e.Disagreement)})
 	}
-	v.Empirical = append(v.Empirical, [2]string{"KL(Q||P)", strconv.FormatFloat(e.KL, 'f', 4, 64)})
+	v.Empirical = append(v.Empirical, [2]string{"KL(Q||P)", trainer.FormatFigure(e.KL)})
 
 	objective := string(p.Objective)
 	if p.Objective == trainer.Linear {
@@ -251,7 +255,7 @@ func buildView(in Input, plots []Plot) view {
 	var run float64
 	for i, r := range rules {
 		run += r.Weight
-		v.Voters = append(v.Voters, voterRow{Rank: i + 1, Weight: strconv.FormatFloat(r.Weight, 'f', 4, 64),
+		v.Voters = append(v.Voters, voterRow{Rank: i + 1, Weight: trainer.FormatFigure(r.Weight),
 			CumulativeText: fmtRate(run), Rule: r.Rule, Kind: r.Kind})
 	}
 	v.VotersShown = len(rules)
