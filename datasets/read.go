@@ -303,6 +303,19 @@ func (p *plan) resolve(opts ReadOptions, line int) *ParseError {
 		names = append(names, nm)
 	}
 	slices.Sort(names)
+	// A file made for a model usually lacks several of its columns at once:
+	// name them all, not only the first.
+	var lacking []string
+	for _, nm := range names {
+		if _, ok := index[nm]; !ok {
+			lacking = append(lacking, strconv.Quote(nm))
+		}
+	}
+	if len(lacking) > 1 {
+		return fail(names[slices.IndexFunc(names, func(nm string) bool { _, ok := index[nm]; return !ok })],
+			fmt.Errorf("%w: the file lacks %d of the columns expected (a model's schema): %s (the file's columns: %s)",
+				ErrUnknownColumn, len(lacking), strings.Join(lacking, ", "), strings.Join(p.names, ", ")))
+	}
 	for _, nm := range names {
 		var m mode
 		switch opts.Kinds[nm] {

@@ -233,6 +233,7 @@ func TestReadBadInput(t *testing.T) {
 		column  int
 		colName string
 		field   string
+		msg     string // a part of the message, when set
 	}{
 		{name: "empty file", text: "", want: ErrEmpty},
 		{name: "only blank lines", text: "\n\r\n\n", want: ErrEmpty},
@@ -260,6 +261,7 @@ func TestReadBadInput(t *testing.T) {
 		{name: "truncated gzip", text: truncated, want: ErrGzip},
 		{name: "gzip header only", text: "\x1f\x8b", want: ErrGzip},
 		{name: "unknown ignored column", text: "x,label\n1,a\n", opts: ReadOptions{Ignore: []string{"nope"}}, want: ErrUnknownColumn, line: 1},
+		{name: "expected columns missing", text: "x,label\n1,a\n2,b\n", opts: ReadOptions{Kinds: map[string]Kind{"x": Numeric, "y": Numeric, "z": Categorical}}, want: ErrUnknownColumn, line: 1, colName: "y", msg: `the file lacks 2 of the columns expected (a model's schema): "y", "z"`},
 		{name: "ignore the label", text: "x,label\n1,a\n", opts: ReadOptions{Ignore: []string{"label"}}, want: ErrOptions},
 		{name: "conflicting kinds", text: "x,label\n1,a\n", opts: ReadOptions{Categorical: []string{"x"}, Kinds: map[string]Kind{"x": Numeric}}, want: ErrOptions},
 		{name: "bad delimiter option", text: "x,label\n1,a\n", opts: ReadOptions{Delimiter: '"'}, want: ErrOptions},
@@ -293,6 +295,9 @@ func TestReadBadInput(t *testing.T) {
 			}
 			if tc.field != "" && pe.Field != tc.field {
 				t.Errorf("field %q, want %q (%v)", pe.Field, tc.field, err)
+			}
+			if tc.msg != "" && !strings.Contains(err.Error(), tc.msg) {
+				t.Errorf("message %q, want it to hold %q", err, tc.msg)
 			}
 		})
 	}
