@@ -67,9 +67,9 @@ type cellGroup struct {
 // summed row by row.
 const maxCells = 1024
 
-// makeCells partitions the rows for each group of voters, splitting a
-// group whose votes do not share a small partition. A group of at most k
-// voters is summed row by row: its cell sums would cost k adds a row.
+// makeCells partitions the rows for each group of voters. A group whose
+// votes make more than maxCells cells, or of at most k voters (its cell
+// sums would cost k adds a row), is summed row by row instead.
 func makeCells(votes [][]uint8, rows, k int, groups [][]int) []cellGroup {
 	var out []cellGroup
 	one := func(g []int) bool {
