@@ -152,7 +152,14 @@ func ReadModelFile(path string) (*Model, error) {
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
 	}
-	m, err := DecodeModel(bytes.NewReader(b))
+	return DecodeModelFile(path, b)
+}
+
+// DecodeModelFile decodes data, the bytes of the model file at path, as
+// ReadModelFile does; for a caller that needs the bytes too (to hash
+// them) without reading the file twice.
+func DecodeModelFile(path string, data []byte) (*Model, error) {
+	m, err := DecodeModel(bytes.NewReader(data))
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %s: %w", path, err)
 	}

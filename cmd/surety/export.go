@@ -51,13 +51,15 @@ var exportFormats = []exportFormat{
 	{name: "onnx", ext: ".onnx", what: "one ONNX model", binary: true, write: writeONNX},
 }
 
-func formatWords() string {
+func formatNames() []string {
 	w := make([]string, len(exportFormats))
 	for i, f := range exportFormats {
 		w[i] = f.name
 	}
-	return strings.Join(w, "|")
+	return w
 }
+
+func formatWords() string { return strings.Join(formatNames(), "|") }
 
 // writeSQL writes the vote as one SELECT (package sqlexport).
 func writeSQL(b *bytes.Buffer, in exportInput) error {
@@ -124,7 +126,7 @@ func (f *formatFlag) Set(s string) error {
 			return nil
 		}
 	}
-	return fmt.Errorf("%q is not one of %s", s, strings.Join(strings.Split(formatWords(), "|"), ", "))
+	return fmt.Errorf("%q is not one of %s", s, strings.Join(formatNames(), ", "))
 }
 
 func (f *formatFlag) Type() string { return formatWords() }
@@ -181,9 +183,9 @@ type exportJSON struct {
 	Table       string `json:"table,omitempty"`
 }
 
-// run reads the model through trainer.ReadModelFile, as every command
-// does, so whatever checks a model file passes there apply here; the
-// hash is of the bytes read just before.
+// run decodes the model with trainer.DecodeModelFile, which every
+// command's read goes through, so whatever checks a model file passes
+// there apply here; the hash is of the same bytes, read once.
 func (o *exportOptions) run(ctx context.Context, args []string, e *env) error {
 	if len(args) > 0 {
 		return usagef("unexpected argument %q", args[0])
@@ -193,7 +195,7 @@ func (o *exportOptions) run(ctx context.Context, args []string, e *env) error {
 	}
 	f := o.format.f
 	if f == nil {
-		return usagef("--format is required (one of %s)", strings.Join(strings.Split(formatWords(), "|"), ", "))
+		return usagef("--format is required (one of %s)", strings.Join(formatNames(), ", "))
 	}
 	if !f.sqlFlags && (o.table.set || o.keep != nil || o.classWeights) {
 		return usagef("--table, --keep and --class-weights apply to --format sql only")
@@ -208,7 +210,7 @@ func (o *exportOptions) run(ctx context.Context, args []string, e *env) error {
 	if err != nil {
 		return err
 	}
-	m, err := trainer.ReadModelFile(o.model)
+	m, err := trainer.DecodeModelFile(o.model, raw)
 	if err != nil {
 		return err
 	}
