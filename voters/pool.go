@@ -5,10 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
-	"runtime"
 	"slices"
-	"sync"
-	"sync/atomic"
 
 	"surety/datasets"
 )
@@ -197,28 +194,19 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 	// column order, so the pool does not depend on their number.
 	perColumn := make([]candidates, len(t.Columns))
 	present := make([]bool, len(t.Columns))
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range max(1, min(runtime.GOMAXPROCS(0), len(t.Columns))) {
-		wg.Go(func() {
-			var vals []float64
-			for {
-				j := int(next.Add(1) - 1)
-				if j >= len(t.Columns) {
-					return
-				}
-				cs, c := &perColumn[j], &t.Columns[j]
-				cs.m, cs.vals = len(rows), vals
-				if c.Kind == datasets.Numeric {
-					present[j] = cs.numericStumps(t, c, rows, cfg.Thresholds)
-				} else {
-					present[j] = cs.categoryStumps(t, c, rows, cfg.MaxLevels)
-				}
-				vals, cs.vals = cs.vals, nil
+	parallelFor(len(t.Columns), func() func(int) {
+		var vals []float64 // numericStumps' scratch, kept from column to column
+		return func(j int) {
+			cs, c := &perColumn[j], &t.Columns[j]
+			cs.m, cs.vals = len(rows), vals
+			if c.Kind == datasets.Numeric {
+				present[j] = cs.numericStumps(t, c, rows, cfg.Thresholds)
+			} else {
+				present[j] = cs.categoryStumps(t, c, rows, cfg.MaxLevels)
 			}
-		})
-	}
-	wg.Wait()
+			vals, cs.vals = cs.vals, nil
+		}
+	})
 	cs := &candidates{m: len(rows)}
 	var usable []int
 	for j := range perColumn {
@@ -270,20 +258,11 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 		}
 		fitted := make([]*Linear, linear)
 		errs := make([]error, linear)
-		var next atomic.Int64
-		var wg sync.WaitGroup
-		for range max(1, min(runtime.GOMAXPROCS(0), linear)) {
-			wg.Go(func() {
-				for {
-					li := int(next.Add(1) - 1)
-					if li >= linear {
-						return
-					}
-					fitted[li], errs[li] = FitLinear(t, rows, jobs[li].sample, jobs[li].names, cfg.L2)
-				}
-			})
-		}
-		wg.Wait()
+		parallelFor(linear, func() func(int) {
+			return func(li int) {
+				fitted[li], errs[li] = FitLinear(t, rows, jobs[li].sample, jobs[li].names, cfg.L2)
+			}
+		})
 		for li, l := range fitted {
 			if errs[li] != nil {
 				return nil, fmt.Errorf("voters: build pool: %w", errs[li])

@@ -3,9 +3,6 @@ package voters
 import (
 	"fmt"
 	"math"
-	"runtime"
-	"sync"
-	"sync/atomic"
 
 	"surety/datasets"
 )
@@ -63,29 +60,19 @@ func (v *Vote) Predict(t *datasets.Table, rows []int) (classes []int, margins []
 	classes = make([]int, len(rows))
 	margins = make([]float64, len(rows))
 	panels := (len(rows) + panelRows - 1) / panelRows
-	workers := max(1, min(runtime.GOMAXPROCS(0), panels))
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Go(func() {
-			s := newScratch(k)
-			ss := &scoreSink{s: s, k: k, w: v.Weights, scores: make([]float64, panelRows*k)}
-			for {
-				i := int(next.Add(1) - 1)
-				if i >= panels {
-					break
-				}
-				lo, hi := i*panelRows, min(len(rows), (i+1)*panelRows)
-				pl.load(s, rows[lo:hi])
-				clear(ss.scores)
-				pl.eval(s, ss)
-				for r := range hi - lo {
-					classes[lo+r], margins[lo+r] = winner(ss.scores[r*k : r*k+k])
-				}
+	parallelFor(panels, func() func(int) {
+		s := newScratch(k)
+		ss := &scoreSink{s: s, k: k, w: v.Weights, scores: make([]float64, panelRows*k)}
+		return func(i int) {
+			lo, hi := i*panelRows, min(len(rows), (i+1)*panelRows)
+			pl.load(s, rows[lo:hi])
+			clear(ss.scores)
+			pl.eval(s, ss)
+			for r := range hi - lo {
+				classes[lo+r], margins[lo+r] = winner(ss.scores[r*k : r*k+k])
 			}
-		})
-	}
-	wg.Wait()
+		}
+	})
 	return classes, margins, nil
 }
 

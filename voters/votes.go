@@ -2,9 +2,6 @@ package voters
 
 import (
 	"fmt"
-	"runtime"
-	"sync"
-	"sync/atomic"
 
 	"surety/datasets"
 )
@@ -28,23 +25,14 @@ func (p *Pool) Votes(t *datasets.Table, rows []int) ([][]uint8, error) {
 		}
 	}
 	out := make([][]uint8, len(p.Voters))
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range max(1, min(runtime.GOMAXPROCS(0), len(p.Voters))) {
-		wg.Go(func() {
-			for {
-				i := int(next.Add(1) - 1)
-				if i >= len(p.Voters) {
-					return
-				}
-				v, col := p.Voters[i], make([]uint8, len(rows))
-				for r, row := range rows {
-					col[r] = uint8(v.Predict(row))
-				}
-				out[i] = col
+	parallelFor(len(p.Voters), func() func(int) {
+		return func(i int) {
+			v, col := p.Voters[i], make([]uint8, len(rows))
+			for r, row := range rows {
+				col[r] = uint8(v.Predict(row))
 			}
-		})
-	}
-	wg.Wait()
+			out[i] = col
+		}
+	})
 	return out, nil
 }
