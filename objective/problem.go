@@ -3,6 +3,7 @@ package objective
 import (
 	"fmt"
 	"math"
+	"runtime"
 	"slices"
 	"sync"
 
@@ -92,12 +93,26 @@ func (m *jqMemo) product(q []float64) []float64 {
 		n := len(q)
 		m.q = append(m.q[:0], q...)
 		m.jq = slices.Grow(m.jq[:0], n)[:n]
-		for i := range n {
-			m.jq[i] = floats.Dot(m.joint[i*n:(i+1)*n], q)
+		// Each entry is one dot product, the same bits whichever goroutine
+		// makes it; a pool of thousands of voters makes the product long
+		// enough (millions of multiply-adds a step) to share.
+		workers := max(1, min(runtime.GOMAXPROCS(0), n*n/productShare))
+		var wg sync.WaitGroup
+		for w := range workers {
+			lo, hi := w*n/workers, (w+1)*n/workers
+			wg.Go(func() {
+				for i := lo; i < hi; i++ {
+					m.jq[i] = floats.Dot(m.joint[i*n:(i+1)*n], m.q)
+				}
+			})
 		}
+		wg.Wait()
 	}
 	return slices.Clone(m.jq)
 }
+
+// productShare is the fewest multiply-adds of J q per goroutine.
+const productShare = 1 << 18
 
 // checkStats validates the statistics an objective is built on.
 func checkStats(risks, joint, prior []float64, m int) error {

@@ -3,6 +3,7 @@ package voters
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -22,6 +23,12 @@ type Linear struct {
 	Bias    []float64     `json:"bias"`
 
 	bound []boundInput
+	// zeroFirst: two classes and class 0's row all zero, as FitLinear
+	// makes it; its score is then 0 without working it out (a term
+	// 0*(v-Mean)/Scale is 0 or, for an infinite v, NaN, and then class
+	// 1's score is infinite or NaN too, which Predict resolves the same
+	// way against 0 as against NaN).
+	zeroFirst bool
 }
 
 // LinearInput is one column of a Linear voter and how it becomes features.
@@ -89,6 +96,7 @@ func (l *Linear) Bind(t *datasets.Table) error {
 		}
 	}
 	l.bound = bound
+	l.zeroFirst = len(l.Weights) == 2 && len(l.Bias) == 2 && l.Bias[0] == 0 && !slices.ContainsFunc(l.Weights[0], func(w float64) bool { return w != 0 })
 	return nil
 }
 
@@ -99,7 +107,11 @@ func (l *Linear) Predict(row int) int {
 	}
 	best, bestScore := 0, math.Inf(-1)
 	for c := range l.Weights {
-		if s := l.score(c, row); s > bestScore {
+		s := 0.0
+		if c > 0 || !l.zeroFirst {
+			s = l.score(c, row)
+		}
+		if s > bestScore {
 			best, bestScore = c, s
 		}
 	}
@@ -367,9 +379,25 @@ func FitLinear(t *datasets.Table, scale, rows []int, columns []string, l2 float6
 		}
 		return f
 	}
+	// gonum's line search asks for the value and then the gradient of one
+	// point in two calls; one pass over the rows gives both (the value's
+	// sum is the same with or without the gradient), so Func keeps the
+	// gradient for the Grad call that follows.
+	lastP, lastG := make([]float64, free*stride), make([]float64, free*stride)
+	haveLast := false
 	problem := optimize.Problem{
-		Func: func(p []float64) float64 { return loss(p, nil) },
-		Grad: func(grad, p []float64) { loss(p, grad) },
+		Func: func(p []float64) float64 {
+			f := loss(p, lastG)
+			lastP, haveLast = append(lastP[:0], p...), true
+			return f
+		},
+		Grad: func(grad, p []float64) {
+			if haveLast && slices.Equal(p, lastP) {
+				copy(grad, lastG)
+				return
+			}
+			loss(p, grad)
+		},
 	}
 	settings := &optimize.Settings{GradientThreshold: gradTol, MajorIterations: 2000}
 	res, err := optimize.Minimize(problem, make([]float64, free*stride), settings, &optimize.LBFGS{})

@@ -2,6 +2,7 @@ package voters
 
 import (
 	"fmt"
+	"math"
 	"math/rand/v2"
 	"testing"
 
@@ -98,6 +99,61 @@ func TestFitLinearErrors(t *testing.T) {
 		t.Run(tc.name, func(t *testing.T) {
 			if _, err := FitLinear(tab, []int{0, 1}, []int{0, 1}, tc.cols, tc.l2); err == nil {
 				t.Fatal("no error")
+			}
+		})
+	}
+}
+
+// TestLinearPredictSkipsZeroClass checks that Predict, which takes class
+// 0's score of a two-class voter as 0 without working it out, picks the
+// class that the largest of the worked-out scores picks (ties to the lower
+// class), on cells that make a term infinite or NaN.
+func TestLinearPredictSkipsZeroClass(t *testing.T) {
+	big := math.MaxFloat64
+	cells := []float64{0, 1, -1, big, -big, math.Inf(1), math.Inf(-1), nan(), 1e-300}
+	var xs, zs []float64
+	for _, x := range cells {
+		for _, z := range cells {
+			xs, zs = append(xs, x), append(zs, z)
+		}
+	}
+	labels := make([]int, len(xs))
+	tab := table([]string{"a", "b"}, labels, numCol("x", xs...), numCol("z", zs...))
+	cases := []struct {
+		name    string
+		weights []float64
+		bias    float64
+	}{
+		{"positive", []float64{2, 3}, 0.5},
+		{"mixed", []float64{-2, 3}, -0.5},
+		{"a zero weight", []float64{0, 1}, 0},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			l := &Linear{
+				Inputs: []LinearInput{
+					{Column: "x", Kind: datasets.Numeric, Mean: -big / 2, Scale: 1},
+					{Column: "z", Kind: datasets.Numeric, Mean: 1, Scale: 3},
+				},
+				Weights: [][]float64{{0, 0}, tc.weights},
+				Bias:    []float64{0, tc.bias},
+			}
+			if err := l.Bind(tab); err != nil {
+				t.Fatal(err)
+			}
+			if !l.zeroFirst {
+				t.Fatal("zeroFirst not set")
+			}
+			for r := range xs {
+				want, bestScore := 0, math.Inf(-1)
+				for c := range 2 {
+					if s := l.score(c, r); s > bestScore {
+						want, bestScore = c, s
+					}
+				}
+				if got := l.Predict(r); got != want {
+					t.Errorf("x=%v z=%v: Predict %d, scores worked out give %d", xs[r], zs[r], got, want)
+				}
 			}
 		})
 	}

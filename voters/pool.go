@@ -196,15 +196,16 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 	present := make([]bool, len(t.Columns))
 	parallelFor(len(t.Columns), func() func(int) {
 		var vals []float64 // numericStumps' scratch, kept from column to column
+		var keys []uint64
 		return func(j int) {
 			cs, c := &perColumn[j], &t.Columns[j]
-			cs.m, cs.vals = len(rows), vals
+			cs.m, cs.vals, cs.keys = len(rows), vals, keys
 			if c.Kind == datasets.Numeric {
 				present[j] = cs.numericStumps(t, c, rows, cfg.Thresholds)
 			} else {
 				present[j] = cs.categoryStumps(t, c, rows, cfg.MaxLevels)
 			}
-			vals, cs.vals = cs.vals, nil
+			vals, cs.vals, keys, cs.keys = cs.vals, nil, cs.keys, nil
 		}
 	})
 	cs := &candidates{m: len(rows)}
@@ -314,6 +315,7 @@ type candidates struct {
 	voters []Voter
 	errs   []int
 	vals   []float64 // numericStumps' scratch, reused column after column
+	keys   []uint64  // and sortFloats'
 }
 
 // add appends v, which gets right of the prior rows right.
@@ -422,7 +424,7 @@ func (cs *candidates) numericStumps(t *datasets.Table, c *datasets.Column, rows 
 	// The cuts are quantiles of the values alone, so a plain float sort
 	// finds them (no NaN is left); the class counts on either side of each
 	// cut then come from one pass that puts each row in its bin.
-	slices.Sort(vals)
+	cs.keys = sortFloats(vals, cs.keys)
 	n := len(vals)
 	maxV := vals[n-1]
 	var cuts []float64
