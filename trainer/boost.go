@@ -37,6 +37,7 @@ type booster struct {
 	k     int
 	w     []float64
 	f, a  []float64 // class scores, and softmax(F) - onehot(y), per row
+	p     []float64 // softmax(F), per row
 	g     []float64
 	cells []cellGroup
 	loss  float64
@@ -44,9 +45,9 @@ type booster struct {
 
 func newBooster(votes [][]uint8, y []int, k int, groups [][]int) *booster {
 	b := &booster{votes: votes, y: y, k: k, w: make([]float64, len(votes)),
-		f: make([]float64, len(y)*k), a: make([]float64, len(y)*k), g: make([]float64, len(votes)),
+		f: make([]float64, len(y)*k), a: make([]float64, len(y)*k), p: make([]float64, len(y)*k), g: make([]float64, len(votes)),
 		cells: makeCells(votes, len(y), k, groups)}
-	b.loss = boostSlope(b.f, b.a, y, k)
+	b.loss = boostSlope(b.f, b.a, b.p, y, k)
 	return b
 }
 
@@ -154,7 +155,7 @@ func (b *booster) round() (voter int, step float64, ok bool) {
 	if best < 0 || bestSlope <= 1e-12*float64(len(b.y)) {
 		return -1, 0, false
 	}
-	step = boostShrink * boostStep(b.f, b.votes[best], b.y, b.k, -b.w[best]/boostShrink)
+	step = boostShrink * boostStep(b.p, b.votes[best], b.y, b.k, -b.w[best]/boostShrink)
 	if step == 0 {
 		return -1, 0, false
 	}
@@ -163,7 +164,7 @@ func (b *booster) round() (voter int, step float64, ok bool) {
 	for r := range b.y {
 		b.f[r*b.k+int(h[r])] += step
 	}
-	next := boostSlope(b.f, b.a, b.y, b.k)
+	next := boostSlope(b.f, b.a, b.p, b.y, b.k)
 	fall := b.loss - next
 	b.loss = next
 	return best, step, fall > boostMinFall*next
@@ -244,7 +245,7 @@ func boostCVRounds(votes [][]uint8, y []int, k int, groups [][]int, seed uint64)
 		b := newBooster(tv, ty, k, groups)
 		vf := make([]float64, len(vy)*k)
 		va := make([]float64, len(vy)*k)
-		held[0] += boostSlope(vf, va, vy, k)
+		held[0] += boostSlope(vf, va, nil, vy, k)
 		live := true
 		for t := 1; t <= boostRounds; t++ {
 			if live {
@@ -256,7 +257,7 @@ func boostCVRounds(votes [][]uint8, y []int, k int, groups [][]int, seed uint64)
 				}
 				live = ok
 			}
-			held[t] += boostSlope(vf, va, vy, k)
+			held[t] += boostSlope(vf, va, nil, vy, k)
 		}
 	}
 	best := 0
@@ -268,9 +269,10 @@ func boostCVRounds(votes [][]uint8, y []int, k int, groups [][]int, seed uint64)
 	return best
 }
 
-// boostSlope writes softmax(F_r) - onehot(y_r) into a and returns the loss
+// boostSlope writes softmax(F_r) - onehot(y_r) into a, and softmax(F_r)
+// into prob unless it is nil, and returns the loss
 // sum_r logsumexp(F_r) - F_{r,y_r}.
-func boostSlope(f, a []float64, y []int, k int) float64 {
+func boostSlope(f, a, prob []float64, y []int, k int) float64 {
 	var loss float64
 	for r, c := range y {
 		fr, ar := f[r*k:r*k+k], a[r*k:r*k+k]
@@ -285,6 +287,9 @@ func boostSlope(f, a []float64, y []int, k int) float64 {
 		}
 		for j := range ar {
 			ar[j] /= z
+		}
+		if prob != nil {
+			copy(prob[r*k:r*k+k], ar)
 		}
 		ar[c]--
 		loss += mx + math.Log(z) - fr[c]
@@ -334,42 +339,68 @@ func boostGrad(g []float64, votes [][]uint8, cells []cellGroup, a []float64, k i
 }
 
 // boostStep returns the step t >= lo along one voter's weight that
-// minimises the loss, by Newton's method on the convex loss along it.
-func boostStep(f []float64, h []uint8, y []int, k int, lo float64) float64 {
-	t := 0.0
-	for range 20 {
+// minimises the loss, by Newton's method on the convex loss along it,
+// safeguarded by the bracket the derivative's sign gives (where the
+// probabilities saturate the curvature is tiny and a bare Newton step
+// would fly off). prob holds each row's softmax(F) at the current scores,
+// so a row's probability of the voter's class h is P = prob[h] and of the
+// other classes R = 1 - P, summed from theirs (1 - P would lose a tiny
+// R); a step t moves it to P e^t / (P e^t + R), and one exp per iteration
+// serves every row.
+func boostStep(prob []float64, h []uint8, y []int, k int, lo float64) float64 {
+	t := math.Max(lo, 0)
+	below, above := lo, math.Inf(1) // the minimum lies in [below, above]
+	for range 60 {
+		// A = P e^t, B = R, or A = P, B = R e^-t: whichever keeps the
+		// exponent at or below 0, so neither overflows.
+		up, down := 1.0, 1.0
+		if t > 0 {
+			down = math.Exp(-t)
+		} else {
+			up = math.Exp(t)
+		}
 		var d1, d2 float64
 		for r, c := range y {
-			fr := f[r*k : r*k+k]
 			hc := int(h[r])
-			mx := math.Inf(-1)
-			for j, v := range fr {
+			var pr, rest float64
+			for j, v := range prob[r*k : r*k+k] {
 				if j == hc {
-					v += t
+					pr = v
+				} else {
+					rest += v
 				}
-				mx = math.Max(mx, v)
 			}
-			var z float64
-			for j, v := range fr {
-				if j == hc {
-					v += t
-				}
-				z += math.Exp(v - mx)
+			x, z := pr*up, rest*down
+			if den := x + z; den > 0 {
+				p := x / den
+				d1 += p
+				d2 += p * (z / den)
 			}
-			p := math.Exp(fr[hc]+t-mx) / z
-			d1 += p
 			if hc == c {
 				d1--
 			}
-			d2 += p * (1 - p)
 		}
-		if !(d2 > 0) {
-			break
+		if d1 < 0 {
+			below = t
+		} else {
+			above = t
 		}
-		nt := math.Max(lo, t-d1/d2)
+		if t == lo && d1 >= 0 {
+			return lo
+		}
+		nt := t - d1/d2
+		if !(nt > below && nt < above) {
+			switch {
+			case !math.IsInf(below, 0) && !math.IsInf(above, 0):
+				nt = below + (above-below)/2
+			case math.IsInf(above, 1):
+				nt = t + math.Max(1, math.Abs(t))
+			default:
+				nt = math.Max(lo, t-math.Max(1, math.Abs(t)))
+			}
+		}
 		if math.Abs(nt-t) <= 1e-10*math.Max(1, math.Abs(t)) {
-			t = nt
-			break
+			return nt
 		}
 		t = nt
 	}

@@ -94,3 +94,77 @@ func all(n int) [][]int {
 	}
 	return [][]int{g}
 }
+
+// TestBoostStepMinimises checks the Newton step worked from the softmax
+// probabilities against the loss along the voter written out from its
+// definition, sum_r logsumexp(F_r + t e_h(r)) - F_r,y_r: at the returned
+// step its derivative, sum_r p_r,h(r)(t) - [h(r) = y_r] with p the
+// softmax worked out with exp, is zero, or positive when the step sits on
+// its lower limit (first-order condition of a convex function on a
+// half-line; common practice, no source).
+func TestBoostStepMinimises(t *testing.T) {
+	tests := []struct {
+		name   string
+		k      int
+		spread float64 // scale of the class scores
+		lo     float64
+	}{
+		{"two classes", 2, 1, math.Inf(-1)},
+		{"three classes", 3, 2, math.Inf(-1)},
+		{"ten classes, large scores", 10, 40, math.Inf(-1)},
+		{"on the lower limit", 3, 1, 0.05},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			rng := rand.New(rand.NewPCG(7, uint64(tc.k)))
+			const rows = 500
+			f := make([]float64, rows*tc.k)
+			for i := range f {
+				f[i] = tc.spread * rng.NormFloat64()
+			}
+			y := make([]int, rows)
+			h := make([]uint8, rows)
+			for r := range y {
+				y[r] = rng.IntN(tc.k)
+				h[r] = uint8(y[r])
+				if rng.Float64() < 0.3 {
+					h[r] = uint8(rng.IntN(tc.k))
+				}
+			}
+			a, prob := make([]float64, rows*tc.k), make([]float64, rows*tc.k)
+			boostSlope(f, a, prob, y, tc.k)
+			step := boostStep(prob, h, y, tc.k, tc.lo)
+			var d1 float64
+			for r := range y {
+				fr := f[r*tc.k : (r+1)*tc.k]
+				mx := math.Inf(-1)
+				for j, v := range fr {
+					if j == int(h[r]) {
+						v += step
+					}
+					mx = math.Max(mx, v)
+				}
+				var z float64
+				for j, v := range fr {
+					if j == int(h[r]) {
+						v += step
+					}
+					z += math.Exp(v - mx)
+				}
+				d1 += math.Exp(fr[h[r]]+step-mx) / z
+				if int(h[r]) == y[r] {
+					d1--
+				}
+			}
+			if step > tc.lo && math.Abs(d1) > 1e-8*rows {
+				t.Errorf("step %v: derivative %v, want 0", step, d1)
+			}
+			if step == tc.lo && d1 < -1e-8*rows {
+				t.Errorf("step at the limit %v: derivative %v, want >= 0", step, d1)
+			}
+			if tc.lo > math.Inf(-1) && step < tc.lo {
+				t.Errorf("step %v below the limit %v", step, tc.lo)
+			}
+		})
+	}
+}

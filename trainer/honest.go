@@ -1,6 +1,15 @@
 package trainer
 
-import "math/bits"
+import (
+	"math/bits"
+	"runtime"
+	"slices"
+	"sync"
+)
+
+// pairShare is the fewest word operations of the pair counts per
+// goroutine; a variable so that a test can share out a small problem.
+var pairShare = 1 << 20
 
 // honestRates counts the prior-row statistics from voters' classes on
 // sample rows: votes[i][r] is voter i's class on row r, y[r] its label, and
@@ -49,31 +58,45 @@ func honestRates(votes [][]uint8, y []int, masks [][]uint64) rates {
 			risks[i] = float64(popcount(errs[i])) / float64(ni)
 		}
 	}
-	for i := range n {
-		for j := i; j < n; j++ {
-			var t, c int
-			ei, ej := errs[i], errs[j]
-			if masks[i] == nil && masks[j] == nil {
-				for w := range words {
-					t += bits.OnesCount64(ei[w] & ej[w])
+	// The pairs are shared over goroutines by row, rows dealt in turn so
+	// that the long first rows and the short last ones mix; each pair is
+	// written by one goroutine, and the smallest count is a minimum, the
+	// same whichever goroutine finds it.
+	workers := max(1, min(runtime.GOMAXPROCS(0), n*n*words/pairShare))
+	mins := make([]int, workers)
+	var wg sync.WaitGroup
+	for wk := range workers {
+		mins[wk] = m
+		wg.Go(func() {
+			for i := wk; i < n; i += workers {
+				for j := i; j < n; j++ {
+					var t, c int
+					ei, ej := errs[i], errs[j]
+					if masks[i] == nil && masks[j] == nil {
+						for w := range words {
+							t += bits.OnesCount64(ei[w] & ej[w])
+						}
+						c = m
+					} else {
+						mi, mj := mask(i), mask(j)
+						for w := range words {
+							both := mi[w] & mj[w]
+							t += bits.OnesCount64(ei[w] & ej[w] & both)
+							c += bits.OnesCount64(both)
+						}
+						mins[wk] = min(mins[wk], max(c, 1))
+					}
+					r := risks[i] * risks[j]
+					if c > 0 {
+						r = float64(t) / float64(c)
+					}
+					joint[i*n+j], joint[j*n+i] = r, r
 				}
-				c = m
-			} else {
-				mi, mj := mask(i), mask(j)
-				for w := range words {
-					both := mi[w] & mj[w]
-					t += bits.OnesCount64(ei[w] & ej[w] & both)
-					c += bits.OnesCount64(both)
-				}
-				minM = min(minM, max(c, 1))
 			}
-			r := risks[i] * risks[j]
-			if c > 0 {
-				r = float64(t) / float64(c)
-			}
-			joint[i*n+j], joint[j*n+i] = r, r
-		}
+		})
 	}
+	wg.Wait()
+	minM = min(minM, slices.Min(mins))
 	return rates{m: max(minM, 1), risks: risks, joint: joint}
 }
 

@@ -328,6 +328,33 @@ func FitLinear(t *datasets.Table, scale, rows []int, columns []string, l2 float6
 		for r, row := range rows {
 			xr := x[r*d : (r+1)*d]
 			y := t.Label[row]
+			if k == 2 {
+				// Two classes: class 0's score is 0, so the log-sum-exp is
+				// softplus(s) = max(s, 0) + log1p(e^-|s|) and class 1's
+				// probability the logistic function of s, from one exp.
+				w := p[:stride]
+				s := w[d]
+				for j, v := range xr {
+					s += w[j] * v
+				}
+				e := math.Exp(-math.Abs(s))
+				f += math.Max(s, 0) + math.Log1p(e)
+				p1 := 1 / (1 + e)
+				if s < 0 {
+					p1 = e / (1 + e)
+				}
+				if y == 1 {
+					f -= s
+					p1--
+				}
+				if grad != nil {
+					for j, v := range xr {
+						grad[j] += p1 * v
+					}
+					grad[d] += p1
+				}
+				continue
+			}
 			mx := 0.0
 			for c := range scores {
 				scores[c] = 0
