@@ -40,3 +40,41 @@ func ExampleWrite() {
 	// [plot-weights plot-margins]
 	// true true
 }
+
+// A model's heaviest voters for people: a linear voter by its largest
+// standardised coefficients, the scales behind z(), and each column's
+// share of the vote.
+func ExampleReadableOf() {
+	m := &trainer.Model{Classes: []string{"no", "yes"}, Vote: &voters.Vote{
+		Classes: []string{"no", "yes"},
+		Weights: []float64{0.75, 0.25},
+		Voters: []voters.Voter{
+			&voters.Linear{
+				Inputs:  []voters.LinearInput{{Column: "income", Kind: datasets.Numeric, Mean: 52000, Scale: 9000}, {Column: "age", Kind: datasets.Numeric, Mean: 41, Scale: 12}},
+				Weights: [][]float64{{0, 0}, {1.5, -0.5}},
+				Bias:    []float64{0, 0.25},
+			},
+			&voters.Stump{Column: "age", Threshold: 30, Below: 0, Above: 1},
+		},
+	}}
+	rd, err := report.ReadableOf(m, 10)
+	if err != nil {
+		panic(err)
+	}
+	for _, v := range rd.Voters {
+		fmt.Println(v.Weight, v.Short)
+	}
+	for _, s := range rd.Scales {
+		fmt.Printf("z(%s) = (%s - %g) / %g\n", s.Column, s.Column, s.Mean, s.SD)
+	}
+	for _, c := range rd.Importance {
+		fmt.Printf("%s %.4f\n", c.Column, c.Weight)
+	}
+	// Output:
+	// 0.75 +1.50 z(income) -0.50 z(age), bias +0.25: > 0 -> yes, else no
+	// 0.25 age <= 30 -> no, else yes (missing: yes)
+	// z(income) = (income - 52000) / 9000
+	// z(age) = (age - 41) / 12
+	// income 0.5625
+	// age 0.4375
+}
