@@ -129,4 +129,3 @@ func canonical(t *testing.T, raw json.RawMessage) string {
 	}
 	return string(b)
 }
-

@@ -109,11 +109,11 @@ type view struct {
 	MoreColumns    int
 	ImportanceRule string
 	ClassVotesRule string
-	PlotOrder    []figure
-	Check        *checkView
-	Sweep        *sweepView
-	Monitor      *monitorView
-	Cautions     []string
+	PlotOrder      []figure
+	Check          *checkView
+	Sweep          *sweepView
+	Monitor        *monitorView
+	Cautions       []string
 }
 
 type figure struct {
