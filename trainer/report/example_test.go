@@ -78,3 +78,38 @@ func ExampleReadableOf() {
 	// income 0.5625
 	// age 0.4375
 }
+
+// A two-class linear voter in one line: its largest standardised
+// coefficients, the count of the rest, and the score's sign rule.
+func ExampleShortLinear() {
+	l := &voters.Linear{
+		Inputs: []voters.LinearInput{
+			{Column: "income", Kind: datasets.Numeric, Mean: 52000, Scale: 9000},
+			{Column: "region", Kind: datasets.Categorical, Levels: []string{"north", "south"}},
+		},
+		Weights: [][]float64{{0, 0, 0}, {1.5, -0.75, 0.05}},
+		Bias:    []float64{0, 0.25},
+	}
+	fmt.Println(report.ShortLinear(l, []string{"no", "yes"}, 2))
+	// Output:
+	// +1.50 z(income) -0.75 [region="north"] + 1 more term, bias +0.25: > 0 -> yes, else no
+}
+
+// Each column's share of a vote's weight: the stump's 0.4 goes to age, the
+// linear voter's 0.6 is shared 3:1 by its |coefficients|.
+func ExampleImportance() {
+	v := &voters.Vote{Classes: []string{"no", "yes"}, Weights: []float64{0.6, 0.4}, Voters: []voters.Voter{
+		&voters.Linear{
+			Inputs:  []voters.LinearInput{{Column: "income", Kind: datasets.Numeric, Mean: 0, Scale: 1}, {Column: "age", Kind: datasets.Numeric, Mean: 0, Scale: 1}},
+			Weights: [][]float64{{0, 0}, {-1.5, 0.5}},
+			Bias:    []float64{0, 0},
+		},
+		&voters.Stump{Column: "age", Threshold: 30, Below: 0, Above: 1},
+	}}
+	for _, c := range report.Importance(v) {
+		fmt.Printf("%s %.2f\n", c.Column, c.Weight)
+	}
+	// Output:
+	// age 0.55
+	// income 0.45
+}
