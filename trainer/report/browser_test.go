@@ -28,6 +28,11 @@ type pageFacts struct {
 	Resources   int     `json:"resources"`
 	ScrollWidth float64 `json:"scrollWidth"`
 	ViewWidth   float64 `json:"viewWidth"`
+	// Scrolled names the voter, scale and importance tables wider than
+	// their scrolling wrap (which the page's scrollWidth does not see).
+	Scrolled []string `json:"scrolled"`
+	// Bars counts the importance bars drawn with a width.
+	Bars int `json:"bars"`
 }
 
 type box struct {
@@ -51,6 +56,11 @@ const readPage = `(() => {
     resources: performance.getEntriesByType("resource").length,
     scrollWidth: document.documentElement.scrollWidth,
     viewWidth: window.innerWidth,
+    scrolled: ["voters-table", "scales-table", "importance-table"].filter(id => {
+      const t = document.getElementById(id);
+      return t && t.parentElement.scrollWidth > t.parentElement.clientWidth;
+    }),
+    bars: [...document.querySelectorAll("#importance-table .bar")].filter(b => b.getBoundingClientRect().width > 0).length,
   };
 })()`
 
@@ -152,6 +162,12 @@ func TestReportInBrowser(t *testing.T) {
 	}
 	if facts.ScrollWidth > facts.ViewWidth {
 		t.Errorf("the page is %.0f px wide in a %.0f px window: something overflows", facts.ScrollWidth, facts.ViewWidth)
+	}
+	if len(facts.Scrolled) > 0 {
+		t.Errorf("tables wider than the page at 1280 px: %v", facts.Scrolled)
+	}
+	if facts.Bars == 0 {
+		t.Error("no importance bar drawn")
 	}
 	png := filepath.Join(dir, "report.png")
 	if err := os.WriteFile(png, shot, 0o644); err != nil {

@@ -117,9 +117,17 @@ func TestWriteContent(t *testing.T) {
 	for _, c := range trainer.Cautions {
 		want = append(want, (c))
 	}
-	for _, r := range m.TopVoters(10) {
-		want = append(want, (r.Rule))
+	rd, err := report.ReadableOf(m, 10)
+	if err != nil {
+		t.Fatal(err)
 	}
+	for _, r := range rd.Voters {
+		want = append(want, r.Short)
+	}
+	for _, c := range rd.Importance[:min(10, len(rd.Importance))] {
+		want = append(want, `<td class="wrap">`+c.Column+`</td>`)
+	}
+	want = append(want, report.ImportanceRule)
 	text := stdhtml.UnescapeString(html)
 	for _, s := range want {
 		if !strings.Contains(text, s) {

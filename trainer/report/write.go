@@ -64,7 +64,11 @@ func Write(w io.Writer, in Input) error {
 	if err != nil {
 		return err
 	}
-	v := buildView(in, plots)
+	rd, err := ReadableOf(in.Model, in.TopVoters)
+	if err != nil {
+		return err
+	}
+	v := buildView(in, plots, rd)
 	if err := page.Execute(w, v); err != nil {
 		return fmt.Errorf("report: %w", err)
 	}
@@ -97,11 +101,19 @@ type view struct {
 	Voters       []voterRow
 	VotersShown  int
 	VotersInPool int
-	PlotOrder    []figure
-	Check        *checkView
-	Sweep        *sweepView
-	Monitor      *monitorView
-	Cautions     []string
+	// LinearTerms is the number of coefficients a linear voter shows.
+	LinearTerms int
+	// Scales are column, mean and sd behind z(column).
+	Scales         [][3]string
+	Importance     []importanceRow
+	MoreColumns    int
+	ImportanceRule string
+	ClassVotesRule string
+	PlotOrder      []figure
+	Check          *checkView
+	Sweep          *sweepView
+	Monitor        *monitorView
+	Cautions       []string
 }
 
 type figure struct {
@@ -117,6 +129,12 @@ type classCertRow struct {
 type ledgerRow struct {
 	Name, Vote, Delta, Value, Reason string
 	Chosen                           bool
+}
+
+// importanceRow is one column's share of the vote; Bar is the bar's width
+// in percent of its cell.
+type importanceRow struct {
+	Column, Share, Bar string
 }
 
 type voterRow struct {
@@ -167,7 +185,7 @@ func fmtRate(x float64) string { return strconv.FormatFloat(100*x, 'f', 2, 64) +
 
 func fmtNum(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
 
-func buildView(in Input, plots []Plot) view {
+func buildView(in Input, plots []Plot, rd *Readable) view {
 	m := in.Model
 	c := m.Certificate
 	p := m.Provenance
@@ -251,14 +269,27 @@ func buildView(in Input, plots []Plot) view {
 		{"written by", "surety " + m.ToolVersion},
 	}
 
-	rules := m.TopVoters(in.TopVoters)
 	var run float64
-	for i, r := range rules {
+	for i, r := range rd.Voters {
 		run += r.Weight
 		v.Voters = append(v.Voters, voterRow{Rank: i + 1, Weight: trainer.FormatFigure(r.Weight),
-			CumulativeText: fmtRate(run), Rule: r.Rule, Kind: r.Kind})
+			CumulativeText: fmtRate(run), Rule: r.Short, Kind: r.Kind})
 	}
-	v.VotersShown = len(rules)
+	v.VotersShown = len(rd.Voters)
+	v.LinearTerms = LinearTerms
+	for _, s := range rd.Scales {
+		v.Scales = append(v.Scales, [3]string{s.Column, strconv.FormatFloat(s.Mean, 'g', 4, 64), strconv.FormatFloat(s.SD, 'g', 4, 64)})
+	}
+	shown := rd.Importance[:min(in.TopVoters, len(rd.Importance))]
+	for _, c := range shown {
+		// The bar's length is the column's share of the heaviest column's,
+		// so the list reads at a glance whatever the shares.
+		v.Importance = append(v.Importance, importanceRow{Column: c.Column, Share: strconv.FormatFloat(100*c.Weight, 'f', 1, 64) + "%",
+			Bar: strconv.FormatFloat(100*c.Weight/rd.Importance[0].Weight, 'f', 1, 64)})
+	}
+	v.MoreColumns = len(rd.Importance) - len(shown)
+	v.ImportanceRule = rd.ImportanceRule
+	v.ClassVotesRule = rd.ClassVotesRule
 
 	if in.Check != nil {
 		v.Check = buildCheck(in.Check, in.CheckPath)
