@@ -124,6 +124,9 @@ func (c PoolConfig) full() int {
 type ColumnSpec struct {
 	Name string        `json:"name"`
 	Kind datasets.Kind `json:"kind"`
+	// Missing says the rows the pool was built on had a missing cell in
+	// the column, so a missing cell in a file to score is nothing new.
+	Missing bool `json:"missing,omitempty"`
 }
 
 // Pool is a set of voters built from prior rows, with the class names they
@@ -285,14 +288,14 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 	if len(p.Voters) == 0 {
 		return nil, fmt.Errorf("voters: build pool: no column of %s splits the %d prior rows", source(t), len(rows))
 	}
-	p.Schema = schemaOf(t, p.Voters)
+	p.Schema = schemaOf(t, rows, p.Voters)
 	p.bound = t
 	return p, nil
 }
 
 // schemaOf returns the columns of t that some voter of vs reads, in t's
-// order.
-func schemaOf(t *datasets.Table, vs []Voter) []ColumnSpec {
+// order, each marked when one of rows has a missing cell in it.
+func schemaOf(t *datasets.Table, rows []int, vs []Voter) []ColumnSpec {
 	read := make(map[string]bool)
 	for _, v := range vs {
 		for _, name := range v.Columns() {
@@ -302,7 +305,7 @@ func schemaOf(t *datasets.Table, vs []Voter) []ColumnSpec {
 	var out []ColumnSpec
 	for j := range t.Columns {
 		if c := &t.Columns[j]; read[c.Name] {
-			out = append(out, ColumnSpec{Name: c.Name, Kind: c.Kind})
+			out = append(out, ColumnSpec{Name: c.Name, Kind: c.Kind, Missing: slices.ContainsFunc(rows, c.IsMissing)})
 		}
 	}
 	return out

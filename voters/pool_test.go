@@ -1,6 +1,7 @@
 package voters
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
@@ -297,5 +298,25 @@ func TestPoolUsesPriorRowsOnly(t *testing.T) {
 	jb, _ := MarshalVoters(pb.Voters)
 	if string(ja) != string(jb) {
 		t.Fatal("pools differ when only the non-prior rows differ")
+	}
+}
+
+// TestSchemaMarksMissing: a column's Missing is set by a missing cell among
+// the rows the pool is built on, and not by one among the other rows.
+func TestSchemaMarksMissing(t *testing.T) {
+	tab := table([]string{"a", "b"}, []int{0, 0, 1, 1, 0, 1},
+		numCol("x", 1, 2, 3, 4, 1.5, nan()),
+		numCol("z", 1, nan(), 3, 4, 2, 3))
+	none := 0
+	p, err := BuildPool(tab, []int{0, 1, 2, 3, 4}, PoolConfig{LinearVoters: &none, NoFullLinear: true}, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := map[string]bool{}
+	for _, c := range p.Schema {
+		got[c.Name] = c.Missing
+	}
+	if want := map[string]bool{"x": false, "z": true}; fmt.Sprint(got) != fmt.Sprint(want) {
+		t.Fatalf("Missing by column %v, want %v", got, want)
 	}
 }

@@ -298,9 +298,9 @@ func voteShares(v *voters.Vote, t *datasets.Table, buf []float64) ([]float64, er
 // but was never shown: levels of a categorical column that no voter names
 // (the model file keeps a column's training levels only through its
 // voters: a linear voter lists every level of the prior rows, a category
-// stump names one), and missing cells. The model file does not record
-// which columns had missing cells in training, so every missing cell is
-// counted.
+// stump names one), and missing cells in a column whose prior rows had
+// none (ColumnSpec.Missing; a model file from before it was recorded marks
+// no column, so there every missing cell is counted).
 type inputWatch struct {
 	cols  []voters.ColumnSpec
 	known []map[string]bool
@@ -373,7 +373,9 @@ func (w *inputWatch) add(t *datasets.Table) {
 			continue
 		}
 		c := &t.Columns[j]
-		w.missing[i] += c.Missing
+		if !spec.Missing {
+			w.missing[i] += c.Missing
+		}
 		if c.Kind != datasets.Categorical {
 			continue
 		}
@@ -440,7 +442,7 @@ func (w *inputWatch) print(e *env, notes []inputNote) {
 			parts = append(parts, fmt.Sprintf("%s with a level %s (%s%s), voted as any other level", rowsOf(n.Unseen, "row"), what, strings.Join(quoted, ", "), more))
 		}
 		if n.Missing > 0 {
-			parts = append(parts, fmt.Sprintf("%s missing, voted as the model's voters treat a missing cell", rowsOf(n.Missing, "row")))
+			parts = append(parts, fmt.Sprintf("%s missing where the training rows had no missing cell, voted as the model's voters treat a missing cell", rowsOf(n.Missing, "row")))
 		}
 		e.warn(fmt.Sprintf("column %q: %s", n.Column, strings.Join(parts, "; ")))
 	}

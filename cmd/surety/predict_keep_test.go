@@ -83,8 +83,8 @@ func TestPredictInputWarnings(t *testing.T) {
 		{Column: "income", Kind: "numeric", Missing: 3},
 		{Column: "region", Kind: "categorical", Missing: 2, Unseen: 4, Levels: []string{"North", "east", "west"}, Known: "voters"},
 	}
-	wantErr := "warning: column \"income\": 3 rows missing, voted as the model's voters treat a missing cell\n" +
-		"warning: column \"region\": 4 rows with a level no voter names (\"North\", \"east\", \"west\"), voted as any other level; 2 rows missing, voted as the model's voters treat a missing cell\n"
+	wantErr := "warning: column \"income\": 3 rows missing where the training rows had no missing cell, voted as the model's voters treat a missing cell\n" +
+		"warning: column \"region\": 4 rows with a level no voter names (\"North\", \"east\", \"west\"), voted as any other level; 2 rows missing where the training rows had no missing cell, voted as the model's voters treat a missing cell\n"
 	for _, rows := range []int{1, 4, predictChunkRows} {
 		t.Run(fmt.Sprintf("chunk=%d", rows), func(t *testing.T) {
 			withChunkRows(t, rows)
@@ -103,6 +103,26 @@ func TestPredictInputWarnings(t *testing.T) {
 				t.Errorf("input_warnings %+v, want %+v", sum.Notes, want)
 			}
 		})
+	}
+}
+
+// A column whose prior rows had missing cells (ColumnSpec.Missing) gets no
+// warning for missing cells; its unseen levels still count.
+func TestPredictInputWarningsTrainedMissing(t *testing.T) {
+	m := predictFixture(t)
+	for i := range m.Columns {
+		m.Columns[i].Missing = true
+	}
+	dir := t.TempDir()
+	model := filepath.Join(dir, "model.json")
+	if err := trainer.WriteModel(model, m); err != nil {
+		t.Fatal(err)
+	}
+	data := filepath.Join("testdata", "predict-unseen.csv")
+	_, errs, code := runCLI(t, "predict", "--model", model, "--data", data)
+	want := "warning: column \"region\": 4 rows with a level no voter names (\"North\", \"east\", \"west\"), voted as any other level\n"
+	if code != 0 || errs != want {
+		t.Errorf("exit %d, stderr\n%s\nwant\n%s", code, errs, want)
 	}
 }
 
