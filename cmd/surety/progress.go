@@ -1,32 +1,199 @@
 package main
 
 import (
+	"fmt"
+	"io"
+	"os"
+	"sync"
+	"time"
+
 	"github.com/schollz/progressbar/v3"
 )
 
-// spinner shows an indeterminate progress line on stderr while a stage
-// runs, and only when stderr is a terminal; the returned func clears it.
-func (e *env) spinner(what string) func() {
-	if !e.progress {
-		return func() {}
-	}
-	bar := progressbar.NewOptions(-1,
-		progressbar.OptionSetWriter(e.stderr),
-		progressbar.OptionSetDescription(what),
-		progressbar.OptionSpinnerType(14),
-		progressbar.OptionClearOnFinish(),
-		progressbar.OptionThrottle(100_000_000),
-	)
-	return func() { bar.Finish() }
+// Progress is one live line on stderr, shown only when stderr is a
+// terminal and --quiet is not given (env.progress), so that pipes, CI logs
+// and every output file stay exactly as they are without it. The line says
+// what the command is doing and, where the total is known (bytes of the
+// file, settings of a sweep), how far along it is; a ticker redraws it
+// while work runs that cannot report (the pool, an optimiser fit), so the
+// elapsed time keeps moving.
+
+// redrawEvery is how often the ticker redraws a line: a few times a second
+// is enough to look alive and cheap on a shared terminal (common practice,
+// no source).
+const redrawEvery = 150 * time.Millisecond
+
+// meter is one progress line; its methods do nothing on a nil meter, which
+// is what env.meter returns when progress is off.
+type meter struct {
+	bar  *progressbar.ProgressBar
+	stop chan struct{}
+	done sync.WaitGroup
+	once sync.Once
 }
 
-// stages returns a trainer progress callback that shows each stage in turn.
-func (e *env) stages() (func(stage string), func()) {
-	stop := func() {}
-	return func(stage string) {
-			stop()
-			stop = e.spinner(stage)
-		}, func() {
-			stop()
+// meter starts a line saying what; total is the known amount of work (-1
+// when unknown: a spinner with the elapsed time), counted in bytes when
+// bytes is set, of which done is done already.
+func (e *env) meter(what string, total, done int64, bytes bool) *meter {
+	if !e.progress {
+		return nil
+	}
+	opts := []progressbar.Option{
+		progressbar.OptionSetWriter(e.stderr),
+		progressbar.OptionSetDescription(what),
+		progressbar.OptionSetWidth(24),
+		progressbar.OptionClearOnFinish(),
+		progressbar.OptionSetElapsedTime(true),
+		progressbar.OptionSetPredictTime(total > 0),
+		progressbar.OptionThrottle(redrawEvery / 3),
+		// The library's own spinner goroutine is off: ours below redraws
+		// every kind of line and is stopped before the command goes on.
+		progressbar.OptionSetSpinnerChangeInterval(0),
+	}
+	switch {
+	case total > 0 && bytes:
+		opts = append(opts, progressbar.OptionShowBytes(true))
+	case total > 0:
+		opts = append(opts, progressbar.OptionShowCount())
+	default:
+		total = -1
+		opts = append(opts, progressbar.OptionSpinnerType(14))
+	}
+	m := &meter{bar: progressbar.NewOptions64(total, opts...), stop: make(chan struct{})}
+	// The first drawing shows done: a Set after it could fall within the
+	// throttle and leave the line at 0 until the next tick.
+	if done > 0 {
+		m.bar.Set64(done)
+	} else {
+		m.bar.RenderBlank()
+	}
+	m.done.Add(1)
+	go func() {
+		defer m.done.Done()
+		tick := time.NewTicker(redrawEvery)
+		defer tick.Stop()
+		for {
+			select {
+			case <-m.stop:
+				return
+			case <-tick.C:
+				if total < 0 {
+					m.bar.Add(1) // turns the spinner and redraws
+				} else {
+					m.bar.RenderBlank()
+				}
+			}
 		}
+	}()
+	return m
+}
+
+// add counts n more units of work done.
+func (m *meter) add(n int) {
+	if m != nil {
+		m.bar.Add(n)
+	}
+}
+
+// finish stops the redraws and clears the line; a second call does
+// nothing.
+func (m *meter) finish() {
+	if m == nil {
+		return
+	}
+	m.once.Do(func() {
+		close(m.stop)
+		m.done.Wait()
+		m.bar.Exit()
+		// Exit keeps the line as it is; the command's own output on
+		// stderr (warnings, errors) starts on a clean line.
+		m.bar.Clear()
+	})
+}
+
+// spinner shows what on a line with the elapsed time until the returned
+// func is called.
+func (e *env) spinner(what string) func() {
+	m := e.meter(what, -1, 0, false)
+	return m.finish
+}
+
+// stageNames say what each of the trainer's stages (trainer.Config.Progress)
+// is doing.
+var stageNames = map[string]string{
+	"split":      "splitting the rows",
+	"pool":       "building the pool of voters",
+	"statistics": "counting each voter's errors",
+	"boost":      "boosting",
+	"optimise":   "fitting the weights",
+	"certify":    "certifying",
+}
+
+// stages returns a trainer progress callback that shows each stage in turn
+// on its own line, and the func that clears the last one. columns is the
+// number of feature columns the pool is built from; settings is the
+// number of settings a sweep fits (0 for a single fit): each fit's stages
+// then say which setting of how many is under way, on a bar of the
+// settings done.
+func (e *env) stages(columns, settings int) (func(stage string), func()) {
+	var cur *meter
+	fit := 0
+	show := func(stage string) {
+		cur.finish()
+		what := stageNames[stage]
+		if what == "" {
+			what = stage
+		}
+		if stage == "pool" {
+			what += fmt.Sprintf(" from %s", counted(columns, "column", "columns"))
+		}
+		if settings > 0 && (stage == "optimise" || stage == "certify") {
+			if stage == "optimise" {
+				fit++
+			}
+			cur = e.meter(fmt.Sprintf("setting %d of %d: %s", fit, settings, what), int64(settings), int64(fit-1), false)
+			return
+		}
+		cur = e.meter(what, -1, 0, false)
+	}
+	return show, func() { cur.finish() }
+}
+
+// countingFile is a data file whose reads move a meter, with the Stat that
+// lets datasets.Read size the table from the file's length.
+// It has no other methods of the file, so that nothing reads around the
+// count (an io.WriterTo would).
+type countingFile struct {
+	f *os.File
+	m *meter
+}
+
+func (c countingFile) Read(p []byte) (int, error) {
+	n, err := c.f.Read(p)
+	c.m.add(n)
+	return n, err
+}
+
+func (c countingFile) Stat() (os.FileInfo, error) { return c.f.Stat() }
+func (c countingFile) Close() error               { return c.f.Close() }
+
+// openCounted opens path for reading with a meter of its bytes; nil when
+// progress is off or the file will not open (the reader then reports the
+// error in its own words).
+func (e *env) openCounted(path string) (io.ReadCloser, *meter) {
+	if !e.progress {
+		return nil, nil
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, nil
+	}
+	fi, err := f.Stat()
+	if err != nil || !fi.Mode().IsRegular() || fi.Size() == 0 {
+		f.Close()
+		return nil, nil
+	}
+	m := e.meter("reading "+path, fi.Size(), 0, true)
+	return countingFile{f, m}, m
 }

@@ -62,7 +62,7 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 	}
 	settings := trainer.Grid(objectives, o.grid.tradeoffs, priors)
 
-	show, stop := e.stages()
+	show, stop := e.stages(len(t.Columns), len(settings))
 	cfg.Progress, cfg.Warn = show, e.warn
 	res, err := trainer.Sweep(ctx, t, cfg, settings)
 	stop()
