@@ -37,8 +37,11 @@ type env struct {
 	stdout io.Writer
 	stderr io.Writer
 	// progress is true when stderr is a terminal and --quiet is not
-	// given, so a progress line may be shown (progress.go).
+	// given, so a progress line may be shown (progress.go); term is that
+	// terminal, which stderr (and stdout, when it is the terminal too)
+	// write through.
 	progress bool
+	term     *terminal
 }
 
 // warn writes a warning to stderr.
@@ -80,7 +83,10 @@ func (f findingError) Unwrap() error { return f.err }
 type exitCoder interface{ exitCodes() string }
 
 func main() {
-	e := &env{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, progress: isTerminal(os.Stderr)}
+	e := &env{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr}
+	if isTerminal(os.Stderr) {
+		e.attachTerminal(isTerminal(os.Stdout))
+	}
 	os.Exit(dispatch(context.Background(), os.Args[1:], e))
 }
 

@@ -23,9 +23,47 @@ import (
 // no source).
 const redrawEvery = 150 * time.Millisecond
 
+// terminal serialises the progress line with everything else written to
+// the same terminal: a write to stderr (a warning) or to stdout when it is
+// the terminal too (predict's rows) first clears the line, which the next
+// tick draws again below the text, so the two never share a line.
+type terminal struct {
+	mu   sync.Mutex
+	raw  io.Writer // stderr itself, where the line is drawn
+	line *meter    // the line on screen, or nil
+}
+
+// clearFirst is a writer of the terminal that clears the line first.
+type clearFirst struct {
+	t *terminal
+	w io.Writer
+}
+
+func (c clearFirst) Write(p []byte) (int, error) {
+	c.t.mu.Lock()
+	defer c.t.mu.Unlock()
+	if c.t.line != nil {
+		c.t.line.bar.Clear()
+	}
+	return c.w.Write(p)
+}
+
+// attachTerminal turns progress on, stderr being a terminal; stdoutToo
+// says stdout is a terminal as well.
+func (e *env) attachTerminal(stdoutToo bool) {
+	e.term = &terminal{raw: e.stderr}
+	e.progress = true
+	e.stderr = clearFirst{e.term, e.stderr}
+	if stdoutToo {
+		e.stdout = clearFirst{e.term, e.stdout}
+	}
+}
+
 // meter is one progress line; its methods do nothing on a nil meter, which
-// is what env.meter returns when progress is off.
+// is what env.meter returns when progress is off. Every use of bar holds
+// term.mu.
 type meter struct {
+	term *terminal
 	bar  *progressbar.ProgressBar
 	stop chan struct{}
 	done sync.WaitGroup
@@ -34,13 +72,14 @@ type meter struct {
 
 // meter starts a line saying what; total is the known amount of work (-1
 // when unknown: a spinner with the elapsed time), counted in bytes when
-// bytes is set, of which done is done already.
+// bytes is set, of which done is done already. One line is shown at a
+// time: finish the last before starting the next.
 func (e *env) meter(what string, total, done int64, bytes bool) *meter {
-	if !e.progress {
+	if !e.progress || e.term == nil {
 		return nil
 	}
 	opts := []progressbar.Option{
-		progressbar.OptionSetWriter(e.stderr),
+		progressbar.OptionSetWriter(e.term.raw),
 		progressbar.OptionSetDescription(what),
 		progressbar.OptionSetWidth(24),
 		progressbar.OptionClearOnFinish(),
@@ -48,7 +87,8 @@ func (e *env) meter(what string, total, done int64, bytes bool) *meter {
 		progressbar.OptionSetPredictTime(total > 0),
 		progressbar.OptionThrottle(redrawEvery / 3),
 		// The library's own spinner goroutine is off: ours below redraws
-		// every kind of line and is stopped before the command goes on.
+		// every kind of line, under the terminal's lock, and is stopped
+		// before the command goes on.
 		progressbar.OptionSetSpinnerChangeInterval(0),
 	}
 	switch {
@@ -60,7 +100,9 @@ func (e *env) meter(what string, total, done int64, bytes bool) *meter {
 		total = -1
 		opts = append(opts, progressbar.OptionSpinnerType(14))
 	}
-	m := &meter{bar: progressbar.NewOptions64(total, opts...), stop: make(chan struct{})}
+	m := &meter{term: e.term, bar: progressbar.NewOptions64(total, opts...), stop: make(chan struct{})}
+	m.term.mu.Lock()
+	m.term.line = m
 	// The first drawing shows done: a Set after it could fall within the
 	// throttle and leave the line at 0 until the next tick.
 	if done > 0 {
@@ -68,6 +110,7 @@ func (e *env) meter(what string, total, done int64, bytes bool) *meter {
 	} else {
 		m.bar.RenderBlank()
 	}
+	m.term.mu.Unlock()
 	m.done.Add(1)
 	go func() {
 		defer m.done.Done()
@@ -78,11 +121,13 @@ func (e *env) meter(what string, total, done int64, bytes bool) *meter {
 			case <-m.stop:
 				return
 			case <-tick.C:
+				m.term.mu.Lock()
 				if total < 0 {
 					m.bar.Add(1) // turns the spinner and redraws
 				} else {
 					m.bar.RenderBlank()
 				}
+				m.term.mu.Unlock()
 			}
 		}
 	}()
@@ -92,7 +137,9 @@ func (e *env) meter(what string, total, done int64, bytes bool) *meter {
 // add counts n more units of work done.
 func (m *meter) add(n int) {
 	if m != nil {
+		m.term.mu.Lock()
 		m.bar.Add(n)
+		m.term.mu.Unlock()
 	}
 }
 
@@ -105,10 +152,15 @@ func (m *meter) finish() {
 	m.once.Do(func() {
 		close(m.stop)
 		m.done.Wait()
+		m.term.mu.Lock()
+		defer m.term.mu.Unlock()
 		m.bar.Exit()
-		// Exit keeps the line as it is; the command's own output on
-		// stderr (warnings, errors) starts on a clean line.
+		// Exit keeps the line as it is; what follows on the terminal
+		// starts on a clean line.
 		m.bar.Clear()
+		if m.term.line == m {
+			m.term.line = nil
+		}
 	})
 }
 

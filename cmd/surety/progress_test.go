@@ -17,6 +17,12 @@ import (
 // pseudo-terminal (as a user at a terminal sees it) and stdout in a
 // buffer; it returns both.
 func runOnPTY(t *testing.T, dir string, args ...string) (stdout, stderr string) {
+	return runOnPTYs(t, dir, false, args...)
+}
+
+// runOnPTYs is runOnPTY with stdout on the same pseudo-terminal when
+// stdoutToo; what the terminal received is then returned as stderr.
+func runOnPTYs(t *testing.T, dir string, stdoutToo bool, args ...string) (stdout, stderr string) {
 	t.Helper()
 	ptmx, tty, err := pty.Open()
 	if err != nil {
@@ -27,6 +33,9 @@ func runOnPTY(t *testing.T, dir string, args ...string) (stdout, stderr string) 
 	cmd.Dir = dir
 	var out bytes.Buffer
 	cmd.Stdout, cmd.Stderr = &out, tty
+	if stdoutToo {
+		cmd.Stdout = tty
+	}
 	if err := cmd.Start(); err != nil {
 		tty.Close()
 		t.Fatal(err)
@@ -164,4 +173,63 @@ func TestProgressOnTerminal(t *testing.T) {
 			t.Errorf("stdout with --quiet differs from a pipe's")
 		}
 	})
+}
+
+// screenLines is what a terminal shows for s, line by line: a carriage
+// return goes back to the first column, and later text overwrites earlier
+// (ECMA-48's CR; from memory). Trailing spaces are dropped.
+func screenLines(s string) []string {
+	var lines []string
+	for _, l := range strings.Split(s, "\n") {
+		var row []rune
+		col := 0
+		for _, r := range l {
+			if r == '\r' {
+				col = 0
+				continue
+			}
+			if col < len(row) {
+				row[col] = r
+			} else {
+				row = append(row, r)
+			}
+			col++
+		}
+		lines = append(lines, strings.TrimRight(string(row), " "))
+	}
+	return lines
+}
+
+// TestProgressSharesTheTerminal runs predict with stdout and stderr on one
+// pseudo-terminal, as a user who does not redirect its rows sees it: the
+// progress line is cleared before each write of rows, so no row shares a
+// screen line with it.
+func TestProgressSharesTheTerminal(t *testing.T) {
+	if testing.Short() {
+		t.Skip("builds surety and trains a model")
+	}
+	repo, err := filepath.Abs("../..")
+	if err != nil {
+		t.Fatal(err)
+	}
+	tmp := t.TempDir()
+	model := filepath.Join(tmp, "model.json")
+	runOnPipes(t, tmp, "train", "--data", filepath.Join(repo, "testdata/bench/demo_train.csv"), "--label", "leaked", "--out", model)
+	_, screen := runOnPTYs(t, tmp, true, "predict", "--model", model, "--data", filepath.Join(repo, "testdata/bench/demo_test.csv"))
+	row := regexp.MustCompile(`^(row,class,margin|\d+,(leak|sound),-?[0-9.]+|)$`)
+	lines := screenLines(screen)
+	if len(lines) < 20000 {
+		t.Fatalf("%d lines on the terminal, want the 20000 rows", len(lines))
+	}
+	bad := 0
+	for i, l := range lines {
+		if !row.MatchString(l) {
+			if bad++; bad <= 5 {
+				t.Errorf("screen line %d is not a row: %q", i+1, l)
+			}
+		}
+	}
+	if !strings.Contains(screen, "predicting ") {
+		t.Errorf("no progress line on the terminal")
+	}
 }
