@@ -8,6 +8,8 @@ import (
 	"time"
 
 	"github.com/schollz/progressbar/v3"
+
+	"surety/trainer"
 )
 
 // Progress is one live line on stderr, shown only when stderr is a
@@ -182,34 +184,71 @@ var stageNames = map[string]string{
 	"certify":    "certifying",
 }
 
-// stages returns a trainer progress callback that shows each stage in turn
-// on its own line, and the func that clears the last one. columns is the
-// number of feature columns the pool is built from; settings is the
-// number of settings a sweep fits (0 for a single fit): each fit's stages
-// then say which setting of how many is under way, on a bar of the
-// settings done.
-func (e *env) stages(columns, settings int) (func(stage string), func()) {
-	var cur *meter
-	fit := 0
-	show := func(stage string) {
-		cur.finish()
-		what := stageNames[stage]
-		if what == "" {
-			what = stage
-		}
-		if stage == "pool" {
-			what += fmt.Sprintf(" from %s", counted(columns, "column", "columns"))
-		}
-		if settings > 0 && (stage == "optimise" || stage == "certify") {
-			if stage == "optimise" {
-				fit++
-			}
-			cur = e.meter(fmt.Sprintf("setting %d of %d: %s", fit, settings, what), int64(settings), int64(fit-1), false)
-			return
-		}
-		cur = e.meter(what, -1, 0, false)
+// stages shows the trainer's stages (trainer.Config.Progress) in turn,
+// each on its own line, and counts the pool's fits
+// (voters.PoolConfig.Progress) and a sweep's settings.
+type stages struct {
+	e        *env
+	columns  int // feature columns the pool is built from
+	settings int // settings a sweep fits; 0 for a single fit
+	mu       sync.Mutex
+	cur      *meter
+	fit      int // the setting being fitted, from 1
+	poolDone int // the pool's fits counted so far
+	counting bool
+}
+
+// showStages wires a stages into cfg when progress is on and returns the
+// func that clears the last line.
+func (e *env) showStages(cfg *trainer.Config, columns, settings int) func() {
+	if !e.progress {
+		return func() {}
 	}
-	return show, func() { cur.finish() }
+	s := &stages{e: e, columns: columns, settings: settings}
+	cfg.Progress, cfg.Pool.Progress = s.stage, s.poolStep
+	return func() {
+		s.mu.Lock()
+		defer s.mu.Unlock()
+		s.cur.finish()
+	}
+}
+
+func (s *stages) stage(stage string) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	s.cur.finish()
+	what := stageNames[stage]
+	if what == "" {
+		what = stage
+	}
+	if stage == "pool" {
+		what += fmt.Sprintf(" from %s", counted(s.columns, "column", "columns"))
+	}
+	if s.settings > 0 && (stage == "optimise" || stage == "certify") {
+		if stage == "optimise" {
+			s.fit++
+		}
+		s.cur = s.e.meter(fmt.Sprintf("setting %d of %d: %s", s.fit, s.settings, what), int64(s.settings), int64(s.fit-1), false)
+		return
+	}
+	s.cur, s.counting = s.e.meter(what, -1, 0, false), false
+}
+
+// poolStep counts a fit of the pool, called from the pool's goroutines:
+// the first turns the pool's spinner into a bar of total fits.
+func (s *stages) poolStep(done, total int) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if !s.counting {
+		s.cur.finish()
+		what := stageNames["pool"] + fmt.Sprintf(" from %s", counted(s.columns, "column", "columns"))
+		s.cur, s.counting, s.poolDone = s.e.meter(what, int64(total), int64(done), false), true, done
+		return
+	}
+	if done > s.poolDone { // the goroutines may report out of order
+		s.cur.add(done - s.poolDone)
+		s.poolDone = done
+	}
 }
 
 // countingFile is a data file whose reads move a meter, with the Stat that

@@ -127,6 +127,11 @@ func TestProgressOnTerminal(t *testing.T) {
 		if !regexp.MustCompile(`reading \S+ +\d+% \|`).MatchString(ttyErr) {
 			t.Errorf("the reading line has no percentage:\n%q", ttyErr)
 		}
+		// The pool counts its fits (voters.PoolConfig.Progress): each
+		// column's stumps, then each linear voter.
+		if !regexp.MustCompile(`building the pool of voters from 64 columns +\d+% \|[^|]*\| \(\d+/\d+\)`).MatchString(ttyErr) {
+			t.Errorf("the pool's line has no count of fits:\n%q", ttyErr)
+		}
 		// A few redraws a second over a run of about two seconds at the
 		// least; the pool's spinner alone turns several times.
 		if n := redraws(ttyErr); n < 8 {

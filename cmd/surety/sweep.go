@@ -62,8 +62,8 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 	}
 	settings := trainer.Grid(objectives, o.grid.tradeoffs, priors)
 
-	show, stop := e.stages(len(t.Columns), len(settings))
-	cfg.Progress, cfg.Warn = show, e.warn
+	stop := e.showStages(&cfg, len(t.Columns), len(settings))
+	cfg.Warn = e.warn
 	res, err := trainer.Sweep(ctx, t, cfg, settings)
 	stop()
 	if err != nil {

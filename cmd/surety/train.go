@@ -72,8 +72,8 @@ func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 }
 
 func trainWithProgress(ctx context.Context, e *env, t *datasets.Table, cfg trainer.Config) (*trainer.Model, error) {
-	show, stop := e.stages(len(t.Columns), 0)
-	cfg.Progress, cfg.Warn = show, e.warn
+	stop := e.showStages(&cfg, len(t.Columns), 0)
+	cfg.Warn = e.warn
 	m, err := trainer.Train(ctx, t, cfg)
 	stop()
 	if err == nil && !m.Provenance.Optimizer.Converged {
