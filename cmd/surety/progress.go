@@ -16,9 +16,9 @@ import (
 // terminal and --quiet is not given (env.progress), so that pipes, CI logs
 // and every output file stay exactly as they are without it. The line says
 // what the command is doing and, where the total is known (bytes of the
-// file, settings of a sweep), how far along it is; a ticker redraws it
-// while work runs that cannot report (the pool, an optimiser fit), so the
-// elapsed time keeps moving.
+// file, the pool's fits, settings of a sweep), how far along it is; a
+// ticker redraws it while work runs that cannot report (the statistics,
+// boosting, an optimiser fit), so the elapsed time keeps moving.
 
 // redrawEvery is how often the ticker redraws a line: a few times a second
 // is enough to look alive and cheap on a shared terminal (common practice,
