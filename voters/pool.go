@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"sync/atomic"
 
 	"surety/datasets"
 )
@@ -46,6 +47,10 @@ type PoolConfig struct {
 	// voter, never dropped by MaxVoters, when there are at least
 	// DefaultFolds prior rows and a column it can read (see FitLinearCV).
 	NoFullLinear bool `json:"no_full_linear"`
+	// Progress, if not nil, is told as BuildPool goes: done of total fits
+	// (each column's stumps, each linear voter, the full one), from any
+	// goroutine. Not kept in Pool.Config, not saved.
+	Progress func(done, total int) `json:"-"`
 }
 
 // DefaultPoolConfig returns every field's default, LinearVoters set. Its
@@ -187,6 +192,13 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 		return nil, fmt.Errorf("voters: build pool: linear voters need a random source")
 	}
 	p := &Pool{Classes: slices.Clone(t.Classes), Config: cfg}
+	p.Config.Progress = nil
+	var fits atomic.Int64
+	step := func() {
+		if cfg.Progress != nil {
+			cfg.Progress(int(fits.Add(1)), len(t.Columns)+linear+cfg.full())
+		}
+	}
 	for j := range t.Columns {
 		if c := &t.Columns[j]; c.Kind != datasets.Numeric && c.Kind != datasets.Categorical {
 			return nil, fmt.Errorf("voters: build pool: column %q has unknown kind %d", c.Name, c.Kind)
@@ -209,6 +221,7 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 				present[j] = cs.categoryStumps(t, c, rows, cfg.MaxLevels)
 			}
 			vals, cs.vals, keys, cs.keys = cs.vals, nil, cs.keys, nil
+			step()
 		}
 	})
 	cs := &candidates{m: len(rows)}
@@ -265,6 +278,7 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 		parallelFor(linear, func() func(int) {
 			return func(li int) {
 				fitted[li], errs[li] = FitLinear(t, rows, jobs[li].sample, jobs[li].names, cfg.L2)
+				step()
 			}
 		})
 		for li, l := range fitted {
@@ -284,6 +298,7 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 		p.Voters = append(p.Voters, cv.Voter)
 		p.OutOfBag = append(p.OutOfBag, nil)
 		p.OutOfFold = append(p.OutOfFold, cv.OutOfFold)
+		step()
 	}
 	if len(p.Voters) == 0 {
 		return nil, fmt.Errorf("voters: build pool: no column of %s splits the %d prior rows", source(t), len(rows))

@@ -233,7 +233,7 @@ func (c *boundOptions) writeText(w io.Writer, lines []boundLine) error {
 		if l.bound.Vacuous() {
 			vacuous = " (vacuous)"
 		}
-		fmt.Fprintf(&sb, "  %-*s  %.6f%s  %s\n", width, l.bound.Name, l.bound.Value, vacuous, l.note)
+		fmt.Fprintf(&sb, "  %-*s  %s%s  %s\n", width, l.bound.Name, upDecimals(l.bound.Value, 6), vacuous, l.note)
 	}
 	header := false
 	for _, l := range lines {

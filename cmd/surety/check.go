@@ -187,9 +187,9 @@ func printCheck(w io.Writer, modelPath, dataPath string, m *trainer.Model, r *tr
 	conf := trainer.Percent(1-r.Delta, false)
 	sel := ""
 	if k := m.Provenance.SweepSettings; k > 0 && m.Provenance.SweepSelected {
-		sel = fmt.Sprintf(", selected from %d settings so computed at delta / %d", k, k)
+		sel = fmt.Sprintf(", selected from %s so computed at delta / %d", counted(k, "setting", "settings"), k)
 	} else if k > 0 {
-		sel = fmt.Sprintf(", one of %d settings of a sweep: it holds only if this setting was fixed before the sweep", k)
+		sel = fmt.Sprintf(", one of %s of a sweep: it holds only if this setting was fixed before the sweep", counted(k, "setting", "settings"))
 	}
 	fmt.Fprintf(w, "model  %s: label %q, certificate %s at delta %g (%s%s)\n", modelPath, m.Label, trainer.Percent(r.ModelBound, true), r.ModelDelta, m.Certificate.Family, sel)
 	fmt.Fprintf(w, "fresh  %s: %d labelled rows\n", dataPath, r.Rows)

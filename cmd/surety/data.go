@@ -79,11 +79,15 @@ func (d *dataFlags) read(e *env, base datasets.ReadOptions) (*datasets.Table, er
 	if err != nil {
 		return nil, err
 	}
-	stop := e.spinner("reading " + d.path)
-	defer stop()
 	var t *datasets.Table
 	if d.path == "-" {
+		stop := e.spinner("reading standard input")
 		t, err = datasets.Read(e.stdin, "-", o)
+		stop()
+	} else if f, m := e.openCounted(d.path); f != nil {
+		t, err = datasets.Read(f, d.path, o)
+		m.finish()
+		f.Close()
 	} else {
 		t, err = datasets.ReadFile(d.path, o)
 	}

@@ -241,3 +241,23 @@ func (d *delimiter) Set(s string) error {
 }
 
 func (d *delimiter) Type() string { return "string" }
+
+// upDecimals prints an upper bound at d decimals, rounded up: the one rule
+// for bounds (README, "Commands"), so that a printed bound is never below
+// the bound it stands for. The slack of 1e-9 keeps a value stored a hair
+// above its decimal (0.1 is 0.1000000000000000055...) at that decimal.
+func upDecimals(x float64, d int) string {
+	s := math.Pow(10, float64(d))
+	return strconv.FormatFloat(math.Ceil(x*s-1e-9)/s, 'f', d, 64)
+}
+
+// upFigures prints an upper bound with n significant figures, rounded up,
+// for a bound of no fixed scale (an expected cost).
+func upFigures(x float64, n int) string {
+	if x == 0 || math.IsInf(x, 0) || math.IsNaN(x) {
+		return strconv.FormatFloat(x, 'g', n, 64)
+	}
+	e := math.Floor(math.Log10(math.Abs(x)))
+	s := math.Pow(10, float64(n-1)-e)
+	return strconv.FormatFloat(math.Ceil(x*s-1e-9)/s, 'g', n, 64)
+}

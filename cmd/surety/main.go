@@ -36,8 +36,12 @@ type env struct {
 	stdin  io.Reader
 	stdout io.Writer
 	stderr io.Writer
-	// progress is true when stderr is a terminal, so progress may be shown.
+	// progress is true when stderr is a terminal and --quiet is not
+	// given, so a progress line may be shown (progress.go); term is that
+	// terminal, which stderr (and stdout, when it is the terminal too)
+	// write through.
 	progress bool
+	term     *terminal
 }
 
 // warn writes a warning to stderr.
@@ -79,7 +83,10 @@ func (f findingError) Unwrap() error { return f.err }
 type exitCoder interface{ exitCodes() string }
 
 func main() {
-	e := &env{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr, progress: isTerminal(os.Stderr)}
+	e := &env{stdin: os.Stdin, stdout: os.Stdout, stderr: os.Stderr}
+	if isTerminal(os.Stderr) {
+		e.attachTerminal(isTerminal(os.Stdout))
+	}
 	os.Exit(dispatch(context.Background(), os.Args[1:], e))
 }
 
@@ -115,6 +122,9 @@ func parseAndRun(ctx context.Context, r registration, args []string, e *env) int
 	fs.SortFlags = false
 	fs.SetOutput(io.Discard)
 	c.AddFlags(fs)
+	// --quiet is every command's: it only hides the progress line, which
+	// is never shown off a terminal anyway.
+	quiet := fs.Bool("quiet", false, "show no progress line on stderr (warnings and errors still print)")
 	codes := exitCodes
 	if x, ok := c.(exitCoder); ok {
 		codes = x.exitCodes()
@@ -128,6 +138,11 @@ func parseAndRun(ctx context.Context, r registration, args []string, e *env) int
 		}
 		fmt.Fprintf(e.stderr, "surety %s: %v\n", r.name, err)
 		return 2
+	}
+	if *quiet {
+		quieter := *e
+		quieter.progress = false
+		e = &quieter
 	}
 	if err := c.run(ctx, fs.Args(), e); err != nil {
 		fmt.Fprintf(e.stderr, "surety %s: %v\n", r.name, err)

@@ -96,6 +96,6 @@ func (o *reportOptions) run(ctx context.Context, args []string, e *env) error {
 	if o.output.json {
 		return writeJSON(e.stdout, reportJSON{ReportPath: o.out, Plots: plots})
 	}
-	fmt.Fprintf(e.stdout, "report written to %s (%d plots: %v)\n", o.out, len(plots), plots)
+	fmt.Fprintf(e.stdout, "report written to %s (%s: %v)\n", o.out, counted(len(plots), "plot", "plots"), plots)
 	return nil
 }

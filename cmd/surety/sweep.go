@@ -62,8 +62,8 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 	}
 	settings := trainer.Grid(objectives, o.grid.tradeoffs, priors)
 
-	show, stop := e.stages()
-	cfg.Progress, cfg.Warn = show, e.warn
+	stop := e.showStages(&cfg, len(t.Columns), len(settings))
+	cfg.Warn = e.warn
 	res, err := trainer.Sweep(ctx, t, cfg, settings)
 	stop()
 	if err != nil {
@@ -95,8 +95,12 @@ func (o *sweepOptions) run(ctx context.Context, args []string, e *env) error {
 func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir string) {
 	m0 := res.Models[0].Provenance
 	fmt.Fprintf(w, "data   %s: %d rows, label %q with %d classes (%s)\n", t.Source, t.Rows, t.LabelName, len(t.Classes), classCounts(t))
-	fmt.Fprintf(w, "split  %d prior rows, %d certify rows (seed %d), pool of %d voters, the same for all %d settings\n\n",
-		m0.PriorRows, m0.CertifyRows, m0.Seed, m0.PoolSize, res.K)
+	all := fmt.Sprintf("all %d settings", res.K)
+	if res.K == 1 {
+		all = "the one setting"
+	}
+	fmt.Fprintf(w, "split  %d prior rows, %d certify rows (seed %d), pool of %s, the same for %s\n\n",
+		m0.PriorRows, m0.CertifyRows, m0.Seed, counted(m0.PoolSize, "voter", "voters"), all)
 	hasTest := res.Rows[0].Test != nil
 	width := len("setting")
 	for _, r := range res.Rows {
@@ -106,7 +110,7 @@ func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir
 	sub := fmt.Sprintf("  %-*s  %11s  %11s  %-18s  %10s  %8s  %7s", width, "", fmt.Sprintf("at %g", res.Delta), fmt.Sprintf("at %.4g", res.SelectionDelta), "", "certify", "", "> 1%")
 	if hasTest {
 		head += fmt.Sprintf("  %10s  %10s", "test error", "test bound")
-		sub += fmt.Sprintf("  %10s  %10s", fmt.Sprintf("%d rows", res.Rows[0].Test.Rows), fmt.Sprintf("at %g", res.Delta))
+		sub += fmt.Sprintf("  %10s  %10s", counted(res.Rows[0].Test.Rows, "row", "rows"), fmt.Sprintf("at %g", res.Delta))
 	}
 	fmt.Fprintln(w, head)
 	fmt.Fprintln(w, strings.TrimRight(sub, " "))
@@ -131,7 +135,7 @@ func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir
 	sel := res.SelectedModel.Certificate
 	fmt.Fprintf(w, "The selected model ships the vote its %s family certifies (%s).\n", sel.Family, sel.Vote)
 	if hasTest {
-		fmt.Fprintf(w, "The test bounds hold one setting at a time (each at delta = %g, not corrected for the %d settings): do not select by them.\n", res.Delta, res.K)
+		fmt.Fprintf(w, "The test bounds hold one setting at a time (each at delta = %g, not corrected for the %s): do not select by them.\n", res.Delta, counted(res.K, "setting", "settings"))
 	}
 	if outDir != "" {
 		fmt.Fprintf(w, "\nwritten to %s: %s, selected.json (the selected model, certified at delta / %d), sweep.csv, sweep.json\n",

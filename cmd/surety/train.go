@@ -72,8 +72,8 @@ func (o *trainOptions) run(ctx context.Context, args []string, e *env) error {
 }
 
 func trainWithProgress(ctx context.Context, e *env, t *datasets.Table, cfg trainer.Config) (*trainer.Model, error) {
-	show, stop := e.stages()
-	cfg.Progress, cfg.Warn = show, e.warn
+	stop := e.showStages(&cfg, len(t.Columns), 0)
+	cfg.Warn = e.warn
 	m, err := trainer.Train(ctx, t, cfg)
 	stop()
 	if err == nil && !m.Provenance.Optimizer.Converged {
@@ -175,7 +175,7 @@ func printTrain(w io.Writer, t *datasets.Table, m *trainer.Model, path string) {
 		t.Source, t.Rows, len(t.Columns), num, cat, t.LabelName, len(t.Classes))
 	fmt.Fprintf(w, "classes    %s\n", classCounts(t))
 	fmt.Fprintf(w, "split      %d prior rows build the pool and the prior, %d certify rows (seed %d)\n", p.PriorRows, p.CertifyRows, p.Seed)
-	fmt.Fprintf(w, "pool       %d voters\n", p.PoolSize)
+	fmt.Fprintf(w, "pool       %s\n", counted(p.PoolSize, "voter", "voters"))
 	fmt.Fprintf(w, "optimiser  %s objective from the %s start: value %.6g, %s\n",
 		p.Objective, p.Optimizer.Start, p.Optimizer.Value, p.Optimizer.Summary())
 	fmt.Fprintln(w)
@@ -196,7 +196,7 @@ func printCertificate(w io.Writer, m *trainer.Model) {
 	}
 	share := fmt.Sprintf("delta %g", c.Delta)
 	if k := m.Provenance.SweepSettings; k > 0 && m.Provenance.SweepSelected {
-		share = fmt.Sprintf("delta %g / %d settings = %.4g", c.Delta, k, c.Delta/float64(k))
+		share = fmt.Sprintf("delta %g / %s = %.4g", c.Delta, counted(k, "setting", "settings"), c.Delta/float64(k))
 	}
 	lines, also := len(c.Families), ""
 	if c.PerClass != nil {
@@ -246,8 +246,8 @@ func printClassCertificates(w io.Writer, m *trainer.Model) {
 		}
 	}
 	if cc := c.Cost; cc != nil {
-		fmt.Fprintf(w, "  %-20s %-11s %-10.4g expected cost per row at most %.4g (mean on the certify rows %.4g, largest cost %g)\n",
-			"cost", c.Vote, cc.Delta, cc.Value, cc.MeanCost, cc.MaxCost)
+		fmt.Fprintf(w, "  %-20s %-11s %-10.4g expected cost per row at most %s (mean on the certify rows %.4g, largest cost %g)\n",
+			"cost", c.Vote, cc.Delta, upFigures(cc.Value, 4), cc.MeanCost, cc.MaxCost)
 	}
 }
 
