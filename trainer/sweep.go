@@ -148,8 +148,14 @@ func (p *Prepared) Sweep(ctx context.Context, settings []Setting) (*SweepResult,
 	sel.Certificate.Delta = p.cfg.Delta
 	res.SelectedModel = sel
 	row := res.Rows[res.Selected]
-	res.Statement = fmt.Sprintf("Of %d settings, %s has the smallest certificate. Because it was chosen after seeing all %d, its certificate is recomputed at delta / %d = %.4g: %s (at delta = %g alone it would be %s, which holds only for a setting fixed in advance).",
-		k, row.Name, k, k, res.SelectionDelta, Percent(row.SelectionCertificate, true), p.cfg.Delta, Percent(row.Certificate, true))
+	if k == 1 {
+		// One setting is no choice: delta / 1 is delta.
+		res.Statement = fmt.Sprintf("One setting, %s, was fitted; its certificate is %s at delta = %g.",
+			row.Name, Percent(row.SelectionCertificate, true), p.cfg.Delta)
+	} else {
+		res.Statement = fmt.Sprintf("Of %d settings, %s has the smallest certificate. Because it was chosen after seeing all %d, its certificate is recomputed at delta / %d = %.4g: %s (at delta = %g alone it would be %s, which holds only for a setting fixed in advance).",
+			k, row.Name, k, k, res.SelectionDelta, Percent(row.SelectionCertificate, true), p.cfg.Delta, Percent(row.Certificate, true))
+	}
 	return res, nil
 }
 

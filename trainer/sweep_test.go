@@ -77,3 +77,17 @@ func TestSweepSelectsHonestly(t *testing.T) {
 		t.Errorf("trained alone %v, in the sweep %v", alone.Certificate.RiskBound, res.Rows[0].Certificate)
 	}
 }
+
+// TestSweepStatementOneSetting: a sweep of one setting makes no choice,
+// and its statement says so without "of 1 settings".
+func TestSweepStatementOneSetting(t *testing.T) {
+	tab := demoTable(t, 600, 22)
+	res, err := Sweep(context.Background(), tab, Config{Seed: 5, Delta: 0.1, Pool: voters.PoolConfig{Thresholds: 8, LinearVoters: intp(2)}}, []Setting{{Objective: Tandem, Tradeoff: 1, Prior: LearnedPrior}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := "One setting, tandem prior=learned, was fitted; its certificate is " + Percent(res.Rows[0].SelectionCertificate, true) + " at delta = 0.1."
+	if res.Statement != want {
+		t.Fatalf("statement %q, want %q", res.Statement, want)
+	}
+}
