@@ -65,11 +65,13 @@ func ExampleBuildPool_maxVoters() {
 	for _, v := range pool.Voters {
 		fmt.Println(v.Describe(pool.Classes))
 	}
-	fmt.Println("schema:", pool.Schema)
+	for _, c := range pool.Schema {
+		fmt.Printf("reads %s (%s), missing cells in the prior rows: %v\n", c.Name, c.Kind, c.Missing)
+	}
 	// Output:
 	// income <= 41 -> default, else repaid (missing: default)
 	// income <= 60 -> default, else repaid (missing: default)
-	// schema: [{income numeric}]
+	// reads income (numeric), missing cells in the prior rows: false
 }
 
 func ExampleVote_Predict() {

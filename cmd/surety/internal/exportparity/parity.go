@@ -448,7 +448,7 @@ func awkward(t *testing.T, e Engine) {
 		{Name: "order", Kind: datasets.Numeric},
 	}
 	for _, c := range m.Columns {
-		if !slices.Contains(schema, c) {
+		if !slices.ContainsFunc(schema, func(s voters.ColumnSpec) bool { return s.Name == c.Name && s.Kind == c.Kind }) {
 			t.Fatalf("the trained model's column %v is not in the test's schema %v", c, schema)
 		}
 	}
