@@ -86,6 +86,11 @@ func TestTrainVacuousCertificate(t *testing.T) {
 	if !strings.Contains(out, "Warning: this certificate is no better than guessing") {
 		t.Errorf("no warning in the text:\n%s", out)
 	}
+	// A sweep on the same rows says it of its selected model.
+	out, errs, code = runSurety(t, "", "sweep", "--data", data, "--linear-voters", "0", "--objective", "tandem", "--prior", "uniform")
+	if code != 0 || !strings.Contains(out, "Warning: this certificate is no better than guessing") {
+		t.Errorf("sweep: exit %d, no warning in the text:\n%s%s", code, out, errs)
+	}
 	for _, args := range [][]string{
 		{"train", "--data", data, "--out", filepath.Join(dir, "m2.json"), "--linear-voters", "0", "--json"},
 		{"show", model, "--json"},

@@ -134,6 +134,9 @@ func printSweep(w io.Writer, t *datasets.Table, res *trainer.SweepResult, outDir
 	fmt.Fprintln(w, res.Statement)
 	sel := res.SelectedModel.Certificate
 	fmt.Fprintf(w, "The selected model ships the vote its %s family certifies (%s).\n", sel.Family, sel.Vote)
+	if note := res.SelectedModel.VacuousNote(); note != "" {
+		fmt.Fprintln(w, note)
+	}
 	if hasTest {
 		fmt.Fprintf(w, "The test bounds hold one setting at a time (each at delta = %g, not corrected for the %s): do not select by them.\n", res.Delta, counted(res.K, "setting", "settings"))
 	}
