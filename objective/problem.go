@@ -96,17 +96,22 @@ func (m *jqMemo) product(q []float64) []float64 {
 		// Each entry is one dot product, the same bits whichever goroutine
 		// makes it; a pool of thousands of voters makes the product long
 		// enough (millions of multiply-adds a step) to share.
-		workers := max(1, min(runtime.GOMAXPROCS(0), n*n/productShare))
-		var wg sync.WaitGroup
-		for w := range workers {
-			lo, hi := w*n/workers, (w+1)*n/workers
-			wg.Go(func() {
-				for i := lo; i < hi; i++ {
-					m.jq[i] = floats.Dot(m.joint[i*n:(i+1)*n], m.q)
-				}
-			})
+		rows := func(lo, hi int) {
+			for i := lo; i < hi; i++ {
+				m.jq[i] = floats.Dot(m.joint[i*n:(i+1)*n], m.q)
+			}
 		}
-		wg.Wait()
+		// A small pool's product is shorter than starting a goroutine.
+		workers := min(runtime.GOMAXPROCS(0), n*n/productShare)
+		if workers <= 1 {
+			rows(0, n)
+		} else {
+			var wg sync.WaitGroup
+			for w := range workers {
+				wg.Go(func() { rows(w*n/workers, (w+1)*n/workers) })
+			}
+			wg.Wait()
+		}
 	}
 	return slices.Clone(m.jq)
 }

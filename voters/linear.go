@@ -319,7 +319,7 @@ func FitLinear(t *datasets.Table, scale, rows []int, columns []string, l2 float6
 	stride := d + 1 // weights then intercept, per free class
 	n := float64(len(rows))
 	scores := make([]float64, k)
-	// loss returns the objective and, when grad is not nil, its gradient.
+	// loss returns the objective and writes its gradient into grad.
 	loss := func(p, grad []float64) float64 {
 		for i := range grad {
 			grad[i] = 0
@@ -347,12 +347,10 @@ func FitLinear(t *datasets.Table, scale, rows []int, columns []string, l2 float6
 					f -= s
 					p1--
 				}
-				if grad != nil {
-					for j, v := range xr {
-						grad[j] += p1 * v
-					}
-					grad[d] += p1
+				for j, v := range xr {
+					grad[j] += p1 * v
 				}
+				grad[d] += p1
 				continue
 			}
 			mx := 0.0
@@ -376,9 +374,6 @@ func FitLinear(t *datasets.Table, scale, rows []int, columns []string, l2 float6
 			}
 			lz := mx + math.Log(z)
 			f += lz - scores[y]
-			if grad == nil {
-				continue
-			}
 			for c := first; c < k; c++ {
 				g := math.Exp(scores[c] - lz)
 				if c == y {
@@ -399,35 +394,14 @@ func FitLinear(t *datasets.Table, scale, rows []int, columns []string, l2 float6
 			for j := 0; j < d; j++ {
 				w := p[c*stride+j]
 				f += l2 / 2 * w * w
-				if grad != nil {
-					grad[c*stride+j] += l2 * w
-				}
+				grad[c*stride+j] += l2 * w
 			}
 		}
 		return f
 	}
-	// gonum's line search asks for the value and then the gradient of one
-	// point in two calls; one pass over the rows gives both (the value's
-	// sum is the same with or without the gradient), so Func keeps the
-	// gradient for the Grad call that follows.
-	lastP, lastG := make([]float64, free*stride), make([]float64, free*stride)
-	haveLast := false
-	problem := optimize.Problem{
-		Func: func(p []float64) float64 {
-			f := loss(p, lastG)
-			lastP, haveLast = append(lastP[:0], p...), true
-			return f
-		},
-		Grad: func(grad, p []float64) {
-			if haveLast && slices.Equal(p, lastP) {
-				copy(grad, lastG)
-				return
-			}
-			loss(p, grad)
-		},
-	}
+	memo := pointMemo{compute: loss}
 	settings := &optimize.Settings{GradientThreshold: gradTol, MajorIterations: 2000}
-	res, err := optimize.Minimize(problem, make([]float64, free*stride), settings, &optimize.LBFGS{})
+	res, err := optimize.Minimize(memo.problem(), make([]float64, free*stride), settings, &optimize.LBFGS{})
 	if err != nil {
 		// The line search can fail where rounding stops all progress: next
 		// to the optimum, which is what a small gradient shows.
@@ -435,7 +409,7 @@ func FitLinear(t *datasets.Table, scale, rows []int, columns []string, l2 float6
 			return nil, fmt.Errorf("voters: fit linear on %v: %w", columns, err)
 		}
 		g := make([]float64, len(res.X))
-		loss(res.X, g)
+		memo.eval(res.X, g)
 		if norm := floats.Norm(g, math.Inf(1)); !(norm <= acceptTol) {
 			return nil, fmt.Errorf("voters: fit linear on %v: gradient %.3g at the stop: %w", columns, norm, err)
 		}

@@ -23,19 +23,16 @@ import (
 // chunk order. So the value and gradient are the same bits at any
 // GOMAXPROCS.
 type logistic struct {
-	x        []float64 // the design, row-major, d per row
-	y        []int     // class of each design row
-	idx      []int     // design rows in the sum
-	d, k     int
-	first    int // first class with a free score
-	l2       float64
-	chunk    int // rows per chunk
-	parts    []logPart
-	lastP    []float64 // the point of the cached value and gradient
-	lastF    float64
-	lastG    []float64
-	haveLast bool
-	evals    int
+	x     []float64 // the design, row-major, d per row
+	y     []int     // class of each design row
+	idx   []int     // design rows in the sum
+	d, k  int
+	first int // first class with a free score
+	l2    float64
+	chunk int // rows per chunk
+	parts []logPart
+	memo  pointMemo
+	evals int
 }
 
 type logPart struct {
@@ -65,7 +62,7 @@ func newLogistic(x []float64, y []int, idx []int, d, k int) *logistic {
 	for i := range lg.parts {
 		lg.parts[i] = logPart{g: make([]float64, lg.params()), scores: make([]float64, k)}
 	}
-	lg.lastG = make([]float64, lg.params())
+	lg.memo.compute = lg.compute
 	return lg
 }
 
@@ -74,22 +71,45 @@ func (lg *logistic) params() int { return (lg.k - lg.first) * (lg.d + 1) }
 // setL2 changes the strength and drops the cached point.
 func (lg *logistic) setL2(l2 float64) {
 	lg.l2 = l2
-	lg.haveLast = false
+	lg.memo.ok = false
 }
 
-// eval returns the objective at p and writes its gradient into grad. It
-// remembers the last point: gonum's line search asks for the value and the
-// gradient of one point in two calls, and one pass over the rows gives both.
-func (lg *logistic) eval(p, grad []float64) float64 {
-	if !lg.haveLast || !slices.Equal(p, lg.lastP) {
-		lg.lastF = lg.compute(p, lg.lastG)
-		lg.lastP = append(lg.lastP[:0], p...)
-		lg.haveLast = true
+// eval returns the objective at p and writes its gradient into grad
+// unless it is nil (pointMemo).
+func (lg *logistic) eval(p, grad []float64) float64 { return lg.memo.eval(p, grad) }
+
+// pointMemo keeps an objective's value and gradient at the last point
+// asked for: gonum's line search asks for the value and then the gradient
+// of one point in two calls, and one pass over the rows gives both.
+type pointMemo struct {
+	// compute returns the value at p and writes the gradient into grad.
+	compute func(p, grad []float64) float64
+	p, g    []float64
+	f       float64
+	ok      bool
+}
+
+// eval returns the value at p and copies the gradient into grad unless it
+// is nil, computing both only for a point other than the last.
+func (m *pointMemo) eval(p, grad []float64) float64 {
+	if !m.ok || !slices.Equal(p, m.p) {
+		m.g = slices.Grow(m.g[:0], len(p))[:len(p)]
+		m.f = m.compute(p, m.g)
+		m.p = append(m.p[:0], p...)
+		m.ok = true
 	}
 	if grad != nil {
-		copy(grad, lg.lastG)
+		copy(grad, m.g)
 	}
-	return lg.lastF
+	return m.f
+}
+
+// problem is the gonum problem of the memo's objective.
+func (m *pointMemo) problem() optimize.Problem {
+	return optimize.Problem{
+		Func: func(p []float64) float64 { return m.eval(p, nil) },
+		Grad: func(grad, p []float64) { m.eval(p, grad) },
+	}
 }
 
 func (lg *logistic) compute(p, grad []float64) float64 {
@@ -204,12 +224,8 @@ func (lg *logistic) predict(p []float64, rows []int, pred []int, logLoss *float6
 // met. A failed line search next to the optimum is not an error: the point
 // is kept and its gradient decides convergence.
 func (lg *logistic) minimize(p0 []float64, tol float64, maxIter int) ([]float64, int, bool) {
-	problem := optimize.Problem{
-		Func: func(p []float64) float64 { return lg.eval(p, nil) },
-		Grad: func(grad, p []float64) { lg.eval(p, grad) },
-	}
 	settings := &optimize.Settings{GradientThreshold: tol, MajorIterations: maxIter}
-	res, _ := optimize.Minimize(problem, p0, settings, &optimize.LBFGS{})
+	res, _ := optimize.Minimize(lg.memo.problem(), p0, settings, &optimize.LBFGS{})
 	if res == nil || res.X == nil {
 		return slices.Clone(p0), 0, false
 	}

@@ -222,7 +222,7 @@ func (s *stages) stage(stage string) {
 		what = stage
 	}
 	if stage == "pool" {
-		what += fmt.Sprintf(" from %s", counted(s.columns, "column", "columns"))
+		what = s.poolLine()
 	}
 	if s.settings > 0 && (stage == "optimise" || stage == "certify") {
 		if stage == "optimise" {
@@ -234,6 +234,11 @@ func (s *stages) stage(stage string) {
 	s.cur, s.counting = s.e.meter(what, -1, 0, false), false
 }
 
+// poolLine says what the pool's line is doing.
+func (s *stages) poolLine() string {
+	return stageNames["pool"] + " from " + counted(s.columns, "column", "columns")
+}
+
 // poolStep counts a fit of the pool, called from the pool's goroutines:
 // the first turns the pool's spinner into a bar of total fits.
 func (s *stages) poolStep(done, total int) {
@@ -241,8 +246,7 @@ func (s *stages) poolStep(done, total int) {
 	defer s.mu.Unlock()
 	if !s.counting {
 		s.cur.finish()
-		what := stageNames["pool"] + fmt.Sprintf(" from %s", counted(s.columns, "column", "columns"))
-		s.cur, s.counting, s.poolDone = s.e.meter(what, int64(total), int64(done), false), true, done
+		s.cur, s.counting, s.poolDone = s.e.meter(s.poolLine(), int64(total), int64(done), false), true, done
 		return
 	}
 	if done > s.poolDone { // the goroutines may report out of order
