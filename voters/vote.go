@@ -45,6 +45,25 @@ func (v *Vote) Bind(t *datasets.Table) error {
 // Predict returns the vote's class for each of rows of t, and its margin:
 // the winning class's total weight minus the runner-up's.
 func (v *Vote) Predict(t *datasets.Table, rows []int) (classes []int, margins []float64, err error) {
+	return v.predict(t, rows, nil)
+}
+
+// PredictTotals is Predict that also returns each row's class totals, k a
+// row in class order: the summed weight of the voters that chose each
+// class, added in SumOrder's order, from which Predict's class and margin
+// come.
+func (v *Vote) PredictTotals(t *datasets.Table, rows []int) (classes []int, margins, totals []float64, err error) {
+	totals = make([]float64, len(rows)*len(v.Classes))
+	classes, margins, err = v.predict(t, rows, totals)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	return classes, margins, totals, nil
+}
+
+// predict is Predict, copying the class totals into totals unless it is
+// nil.
+func (v *Vote) predict(t *datasets.Table, rows []int, totals []float64) (classes []int, margins []float64, err error) {
 	if err := checkCells(t, rows); err != nil {
 		return nil, nil, fmt.Errorf("voters: predict: %w", err)
 	}
@@ -70,6 +89,9 @@ func (v *Vote) Predict(t *datasets.Table, rows []int) (classes []int, margins []
 			pl.eval(s, ss)
 			for r := range hi - lo {
 				classes[lo+r], margins[lo+r] = winner(ss.scores[r*k : r*k+k])
+			}
+			if totals != nil {
+				copy(totals[lo*k:hi*k], ss.scores)
 			}
 		}
 	})

@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"runtime"
+	"slices"
 	"testing"
 )
 
@@ -135,5 +136,50 @@ func TestVoteErrorsBadInput(t *testing.T) {
 	}
 	if _, _, err := (&Vote{Voters: []Voter{s}, Weights: []float64{1}, Classes: tab.Classes}).Predict(tab, []int{2}); err == nil {
 		t.Fatal("a row out of range gave no error")
+	}
+}
+
+// TestPredictTotals: each row's class totals are the voters' weights added
+// one at a time in SumOrder's order (the definition, summed naively), to
+// the bit, and Predict's class and margin are the largest total and its
+// lead, at any GOMAXPROCS.
+func TestPredictTotals(t *testing.T) {
+	rng := rand.New(rand.NewPCG(33, 34))
+	tab := randomTable(rng, 3000, 3, 0.05)
+	perm := rng.Perm(tab.Rows)
+	p, err := BuildPool(tab, perm[:1000], PoolConfig{Thresholds: 5}, rand.New(rand.NewPCG(1, 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := make([]float64, len(p.Voters))
+	for i := range w {
+		if rng.IntN(4) > 0 {
+			w[i] = rng.Float64()
+		}
+	}
+	v := &Vote{Voters: p.Voters, Weights: w, Classes: p.Classes}
+	rows := perm[1000:]
+	for _, procs := range []int{1, 2} {
+		old := runtime.GOMAXPROCS(procs)
+		classes, margins, totals, err := v.PredictTotals(tab, rows)
+		runtime.GOMAXPROCS(old)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for i, r := range rows {
+			want := make([]float64, 3)
+			for _, j := range v.SumOrder() {
+				if w[j] != 0 {
+					want[p.Voters[j].Predict(r)] += w[j]
+				}
+			}
+			got := totals[i*3 : i*3+3]
+			if !slices.Equal(got, want) {
+				t.Fatalf("GOMAXPROCS=%d row %d: totals %v, want %v", procs, r, got, want)
+			}
+			if c, m := winner(want); classes[i] != c || margins[i] != m {
+				t.Fatalf("GOMAXPROCS=%d row %d: class %d margin %v, want %d %v", procs, r, classes[i], margins[i], c, m)
+			}
+		}
 	}
 }

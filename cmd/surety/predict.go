@@ -113,21 +113,22 @@ func (o *predictOptions) run(ctx context.Context, args []string, e *env) error {
 	counts := map[string]int{}
 	var preds []predictionJSON
 	var line []byte
-	var shares []float64
 	watch := newInputWatch(m)
 	rows := 0
 	scan := func(chunk *datasets.Table, first int) error {
 		rows += chunk.Rows
-		c, mg, err := m.Predict(chunk)
+		var c []int
+		var mg, shares []float64
+		var err error
+		if o.scores {
+			c, mg, shares, err = voteShares(m.Vote, chunk)
+		} else {
+			c, mg, err = m.Predict(chunk)
+		}
 		if err != nil {
 			return err
 		}
 		watch.add(chunk)
-		if o.scores {
-			if shares, err = voteShares(m.Vote, chunk, shares); err != nil {
-				return err
-			}
-		}
 		cols := make([]*datasets.Column, len(kept))
 		for j, name := range kept {
 			cols[j] = &chunk.Columns[chunk.Column(name)]
@@ -263,35 +264,28 @@ func cellText(c *datasets.Column, row int) string {
 	return c.Levels[code]
 }
 
-// voteShares returns, for each row of t in order, each class's share of
-// the vote's weight (k values a row, buf reused): the weights of the
-// voters that chose the class, added in the order voters.Vote.SumOrder
-// gives (the order of Vote.Predict, so the largest share is the predicted
-// class, ties included), divided by the total weight.
-func voteShares(v *voters.Vote, t *datasets.Table, buf []float64) ([]float64, error) {
-	if err := v.Bind(t); err != nil {
-		return nil, err
+// voteShares predicts every row of t as Model.Predict does and returns,
+// besides, each class's share of the vote's weight (k values a row): the
+// class totals of Vote.PredictTotals (added in Vote.SumOrder's order, so
+// the largest share is the predicted class, ties included) divided by the
+// total weight.
+func voteShares(v *voters.Vote, t *datasets.Table) ([]int, []float64, []float64, error) {
+	rows := make([]int, t.Rows)
+	for i := range rows {
+		rows[i] = i
 	}
-	k := len(v.Classes)
-	buf = slices.Grow(buf[:0], t.Rows*k)[:t.Rows*k]
-	clear(buf)
-	order := v.SumOrder()
+	classes, margins, shares, err := v.PredictTotals(t, rows)
+	if err != nil {
+		return nil, nil, nil, err
+	}
 	total := 0.0
-	for _, i := range order {
+	for _, i := range v.SumOrder() {
 		total += v.Weights[i]
 	}
-	for row := range t.Rows {
-		s := buf[row*k : (row+1)*k]
-		for _, i := range order {
-			if c := v.Voters[i].Predict(row); c >= 0 && c < k {
-				s[c] += v.Weights[i]
-			}
-		}
-		for c := range s {
-			s[c] /= total
-		}
+	for i := range shares {
+		shares[i] /= total
 	}
-	return buf, nil
+	return classes, margins, shares, nil
 }
 
 // inputWatch counts, per column the model reads, the cells the vote sees
