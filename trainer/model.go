@@ -305,17 +305,10 @@ func allRows(t *datasets.Table) []int {
 	return rows
 }
 
-// Rule is one voter of a model as people read it.
-type Rule struct {
-	// Rule is the voter as a rule: "income <= 52300 -> approve".
-	Rule   string  `json:"rule"`
-	Kind   string  `json:"kind"`
-	Weight float64 `json:"weight"`
-}
-
-// TopVoters returns the k heaviest voters of the shipped vote as rules,
-// heaviest first, ties in pool order; voters of weight 0 are left out.
-func (m *Model) TopVoters(k int) []Rule {
+// TopVoters returns the indexes of the k heaviest voters of the shipped
+// vote, heaviest first, ties in pool order; voters of weight 0 are left
+// out.
+func (m *Model) TopVoters(k int) []int {
 	w := m.Vote.Weights
 	idx := make([]int, 0, len(w))
 	for i, x := range w {
@@ -324,11 +317,5 @@ func (m *Model) TopVoters(k int) []Rule {
 		}
 	}
 	slices.SortStableFunc(idx, func(a, b int) int { return cmp.Compare(w[b], w[a]) })
-	idx = idx[:min(k, len(idx))]
-	rules := make([]Rule, len(idx))
-	for j, i := range idx {
-		v := m.Vote.Voters[i]
-		rules[j] = Rule{Rule: v.Describe(m.Classes), Kind: v.Kind(), Weight: w[i]}
-	}
-	return rules
+	return idx[:min(k, len(idx))]
 }

@@ -80,7 +80,7 @@ var ClassVotesRule = fmt.Sprintf("The model file holds no data, so the classes a
 // scales they use and the importance of every column.
 func ReadableOf(m *trainer.Model, top int) (*Readable, error) {
 	r := &Readable{ImportanceRule: ImportanceRule}
-	idx := topIndexes(m.Vote.Weights, top)
+	idx := m.TopVoters(top)
 	seen := map[Scale]bool{}
 	for _, i := range idx {
 		v := m.Vote.Voters[i]
@@ -111,19 +111,6 @@ func ReadableOf(m *trainer.Model, top int) (*Readable, error) {
 	}
 	r.Importance = Importance(m.Vote)
 	return r, nil
-}
-
-// topIndexes returns the indexes of the k heaviest weights above 0,
-// heaviest first, ties in index order: the order of Model.TopVoters.
-func topIndexes(w []float64, k int) []int {
-	idx := make([]int, 0, len(w))
-	for i, x := range w {
-		if x > 0 {
-			idx = append(idx, i)
-		}
-	}
-	slices.SortStableFunc(idx, func(a, b int) int { return cmp.Compare(w[b], w[a]) })
-	return idx[:min(k, len(idx))]
 }
 
 // Importance returns each column's share of the vote's weight by the rule
