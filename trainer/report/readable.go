@@ -163,20 +163,21 @@ func Importance(v *voters.Vote) []ColumnShare {
 // values of its coefficients over its features and the classes.
 func inputStrength(l *voters.Linear) []float64 {
 	str := make([]float64, len(l.Inputs))
-	for _, w := range l.Weights {
-		off := 0
-		for j := range l.Inputs {
-			width := 1
-			if l.Inputs[j].Kind == datasets.Categorical {
-				width = len(l.Inputs[j].Levels)
-			}
-			for f := off; f < off+width && f < len(w); f++ {
-				str[j] += math.Abs(w[f])
-			}
-			off += width
-		}
+	for _, t := range features(l, absCoef(l)) {
+		str[t.input] += t.coef
 	}
 	return str
+}
+
+// absCoef returns the sum over the classes of |weight| of a feature.
+func absCoef(l *voters.Linear) func(f int) float64 {
+	return func(f int) float64 {
+		s := 0.0
+		for _, w := range l.Weights {
+			s += math.Abs(w[f])
+		}
+		return s
+	}
 }
 
 // term is one feature of a linear voter: input's numeric z or one level.
@@ -212,15 +213,9 @@ func features(l *voters.Linear, coef func(f int) float64) []term {
 // whose sign decides); with more, it is the sum of the absolute weights
 // over the classes.
 func linearTerms(l *voters.Linear) ([]term, int) {
-	coef := func(f int) float64 {
-		if len(l.Weights) == 2 {
-			return l.Weights[1][f] - l.Weights[0][f]
-		}
-		s := 0.0
-		for _, w := range l.Weights {
-			s += math.Abs(w[f])
-		}
-		return s
+	coef := absCoef(l)
+	if len(l.Weights) == 2 {
+		coef = func(f int) float64 { return l.Weights[1][f] - l.Weights[0][f] }
 	}
 	ts := features(l, coef)
 	slices.SortStableFunc(ts, func(a, b term) int { return cmp.Compare(math.Abs(b.coef), math.Abs(a.coef)) })
