@@ -109,7 +109,7 @@ func printShow(w io.Writer, path string, m *trainer.Model, rd *report.Readable, 
 		fmt.Fprintf(w, "  %-*s  %6s\n", width, c.Column, strconv.FormatFloat(100*c.Weight, 'f', 1, 64)+"%")
 	}
 	if rest := len(rd.Importance) - len(shown); rest > 0 {
-		fmt.Fprintf(w, "  + %d more columns\n", rest)
+		fmt.Fprintf(w, "  + %s\n", counted(rest, "more column", "more columns"))
 	}
 	for _, n := range readableNotes(rd) {
 		fmt.Fprintf(w, "  note: %s\n", n)

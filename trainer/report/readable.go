@@ -286,7 +286,7 @@ func ShortLinear(l *voters.Linear, classes []string, k int) string {
 		fmt.Fprintf(&b, "%s %s", className(classes, c), pct(float64(votes[c])/classVotesRows))
 	}
 	if rest := len(order) - shownClasses; rest > 0 {
-		fmt.Fprintf(&b, " + %d more classes", rest)
+		b.WriteString(" + " + more(rest, "class", "classes"))
 	}
 	b.WriteString(" (synthetic rows); strongest by sum of |coef| over classes:")
 	for i, t := range shown {
@@ -343,11 +343,15 @@ func classVotes(l *voters.Linear) []int {
 }
 
 // moreTerms writes " + k more terms".
-func moreTerms(k int) string {
+func moreTerms(k int) string { return " + " + more(k, "term", "terms") }
+
+// more writes "1 more term", "3 more terms": k with its noun in the
+// singular for one.
+func more(k int, one, many string) string {
 	if k == 1 {
-		return " + 1 more term"
+		return "1 more " + one
 	}
-	return " + " + strconv.Itoa(k) + " more terms"
+	return strconv.Itoa(k) + " more " + many
 }
 
 // signed writes x with its sign and 2 decimals, "+0.86", "-1.28".

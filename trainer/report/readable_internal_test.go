@@ -29,3 +29,23 @@ func TestClassVotes(t *testing.T) {
 		}
 	}
 }
+
+// A count of one takes its noun in the singular (the README's rule for
+// figures, "Commands").
+func TestMore(t *testing.T) {
+	cases := []struct {
+		name string
+		k    int
+		want string
+	}{
+		{"one", 1, "1 more column"},
+		{"two", 2, "2 more columns"},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			if got := more(tc.k, "column", "columns"); got != tc.want {
+				t.Fatalf("%q, want %q", got, tc.want)
+			}
+		})
+	}
+}

@@ -106,7 +106,7 @@ type view struct {
 	// Scales are column, mean and sd behind z(column).
 	Scales         [][3]string
 	Importance     []importanceRow
-	MoreColumns    int
+	MoreColumns    string // "3 more columns", "" for none
 	ImportanceRule string
 	ClassVotesRule string
 	PlotOrder      []figure
@@ -287,7 +287,9 @@ func buildView(in Input, plots []Plot, rd *Readable) view {
 		v.Importance = append(v.Importance, importanceRow{Column: c.Column, Share: strconv.FormatFloat(100*c.Weight, 'f', 1, 64) + "%",
 			Bar: strconv.FormatFloat(100*c.Weight/rd.Importance[0].Weight, 'f', 1, 64)})
 	}
-	v.MoreColumns = len(rd.Importance) - len(shown)
+	if rest := len(rd.Importance) - len(shown); rest > 0 {
+		v.MoreColumns = more(rest, "column", "columns")
+	}
 	v.ImportanceRule = rd.ImportanceRule
 	v.ClassVotesRule = rd.ClassVotesRule
 
