@@ -75,8 +75,7 @@ func makeCells(votes [][]uint8, rows, k int, groups [][]int) []cellGroup {
 	var out []cellGroup
 	one := func(g []int) bool {
 		if len(g) <= k {
-			out = append(out, cellGroup{voters: g})
-			return true
+			return false
 		}
 		ids := make(map[string]uint16)
 		cellOf := make([]uint16, rows)
@@ -107,10 +106,18 @@ func makeCells(votes [][]uint8, rows, k int, groups [][]int) []cellGroup {
 		out = append(out, cellGroup{voters: g, cellOf: cellOf, class: class, sums: make([]float64, len(ids)*k)})
 		return true
 	}
+	var byRow []int
 	for _, g := range groups {
 		if !one(g) {
-			out = append(out, cellGroup{voters: g})
+			byRow = append(byRow, g...)
 		}
+	}
+	// Voters summed row by row go in fours, which boostGrad adds side by
+	// side (four independent sums in one pass over the rows).
+	for len(byRow) > 0 {
+		n := min(4, len(byRow))
+		out = append(out, cellGroup{voters: byRow[:n:n]})
+		byRow = byRow[n:]
 	}
 	return out
 }
@@ -271,31 +278,64 @@ func boostCVRounds(votes [][]uint8, y []int, k int, groups [][]int, seed uint64)
 
 // boostSlope writes softmax(F_r) - onehot(y_r) into a, and softmax(F_r)
 // into prob unless it is nil, and returns the loss
-// sum_r logsumexp(F_r) - F_{r,y_r}.
+// sum_r logsumexp(F_r) - F_{r,y_r}. Rows are shared over goroutines; the
+// loss adds each row's term in row order, so its bits do not depend on
+// their number.
 func boostSlope(f, a, prob []float64, y []int, k int) float64 {
+	terms := make([]float64, len(y))
+	byRows(len(y), k, func(lo, hi int) {
+		for r := lo; r < hi; r++ {
+			c := y[r]
+			fr, ar := f[r*k:r*k+k], a[r*k:r*k+k]
+			mx := fr[0]
+			for _, v := range fr {
+				mx = math.Max(mx, v)
+			}
+			var z float64
+			for j, v := range fr {
+				// exp(0) is 1 exactly: the largest score needs no exp.
+				e := 1.0
+				if d := v - mx; d != 0 {
+					e = math.Exp(d)
+				}
+				ar[j] = e
+				z += e
+			}
+			for j := range ar {
+				ar[j] /= z
+			}
+			if prob != nil {
+				copy(prob[r*k:r*k+k], ar)
+			}
+			ar[c]--
+			terms[r] = mx + math.Log(z) - fr[c]
+		}
+	})
 	var loss float64
-	for r, c := range y {
-		fr, ar := f[r*k:r*k+k], a[r*k:r*k+k]
-		mx := fr[0]
-		for _, v := range fr {
-			mx = math.Max(mx, v)
-		}
-		var z float64
-		for j, v := range fr {
-			ar[j] = math.Exp(v - mx)
-			z += ar[j]
-		}
-		for j := range ar {
-			ar[j] /= z
-		}
-		if prob != nil {
-			copy(prob[r*k:r*k+k], ar)
-		}
-		ar[c]--
-		loss += mx + math.Log(z) - fr[c]
+	for _, t := range terms {
+		loss += t
 	}
 	return loss
 }
+
+// byRows runs part over a split of [0, rows) into contiguous ranges, one
+// per goroutine, or inline when the rows (times k classes) are too few to
+// share; callers write each row's results to its own place.
+func byRows(rows, k int, part func(lo, hi int)) {
+	workers := max(1, min(runtime.GOMAXPROCS(0), rows*k/rowShare))
+	if workers == 1 {
+		part(0, rows)
+		return
+	}
+	var wg sync.WaitGroup
+	for w := range workers {
+		wg.Go(func() { part(w*rows/workers, (w+1)*rows/workers) })
+	}
+	wg.Wait()
+}
+
+// rowShare is the fewest row-class entries a goroutine of byRows takes.
+const rowShare = 4096
 
 // boostGrad writes each voter's partial derivative, sum_r a[r, h_i(r)],
 // into g: per group, the sums of a over each cell, then each voter's sum
@@ -310,21 +350,10 @@ func boostGrad(g []float64, votes [][]uint8, cells []cellGroup, a []float64, k i
 			for gi := wk; gi < len(cells); gi += workers {
 				cg := &cells[gi]
 				if cg.cellOf == nil {
-					for _, i := range cg.voters {
-						var s float64
-						for r, c := range votes[i] {
-							s += a[r*k+int(c)]
-						}
-						g[i] = s
-					}
+					rowSums(g, votes, cg.voters, a, k)
 					continue
 				}
-				clear(cg.sums)
-				for r, c := range cg.cellOf {
-					for j := range k {
-						cg.sums[int(c)*k+j] += a[r*k+j]
-					}
-				}
+				cellSums(cg.sums, cg.cellOf, a, k)
 				for j, i := range cg.voters {
 					var s float64
 					for c, cls := range cg.class[j] {
@@ -350,6 +379,7 @@ func boostGrad(g []float64, votes [][]uint8, cells []cellGroup, a []float64, k i
 func boostStep(prob []float64, h []uint8, y []int, k int, lo float64) float64 {
 	t := math.Max(lo, 0)
 	below, above := lo, math.Inf(1) // the minimum lies in [below, above]
+	p1, p2 := make([]float64, len(y)), make([]float64, len(y))
 	for range 60 {
 		// A = P e^t, B = R, or A = P, B = R e^-t: whichever keeps the
 		// exponent at or below 0, so neither overflows.
@@ -359,24 +389,32 @@ func boostStep(prob []float64, h []uint8, y []int, k int, lo float64) float64 {
 		} else {
 			up = math.Exp(t)
 		}
-		var d1, d2 float64
-		for r, c := range y {
-			hc := int(h[r])
-			var pr, rest float64
-			for j, v := range prob[r*k : r*k+k] {
-				if j == hc {
-					pr = v
-				} else {
-					rest += v
+		// Each row's p and p z/den, worked out in parallel, then added
+		// in row order (the same bits for any number of goroutines).
+		byRows(len(y), k, func(lo, hi int) {
+			for r := lo; r < hi; r++ {
+				hc := int(h[r])
+				var pr, rest float64
+				for j, v := range prob[r*k : r*k+k] {
+					if j == hc {
+						pr = v
+					} else {
+						rest += v
+					}
+				}
+				x, z := pr*up, rest*down
+				p1[r], p2[r] = 0, 0
+				if den := x + z; den > 0 {
+					p := x / den
+					p1[r], p2[r] = p, p*(z/den)
 				}
 			}
-			x, z := pr*up, rest*down
-			if den := x + z; den > 0 {
-				p := x / den
-				d1 += p
-				d2 += p * (z / den)
-			}
-			if hc == c {
+		})
+		var d1, d2 float64
+		for r, c := range y {
+			d1 += p1[r]
+			d2 += p2[r]
+			if int(h[r]) == c {
 				d1--
 			}
 		}
@@ -405,4 +443,49 @@ func boostStep(prob []float64, h []uint8, y []int, k int, lo float64) float64 {
 		t = nt
 	}
 	return t
+}
+
+// rowSums writes sum_r a[r, h_i(r)] into g[i] for each of at most four
+// voters vs, the four sums side by side in one pass over the rows, each
+// in row order (so the same bits as one voter at a time).
+func rowSums(g []float64, votes [][]uint8, vs []int, a []float64, k int) {
+	var h [4][]uint8
+	for j := range h {
+		// A missing voter repeats the first, its sum thrown away.
+		h[j] = votes[vs[min(j, len(vs)-1)]]
+	}
+	h0 := h[0]
+	h1, h2, h3 := h[1][:len(h0)], h[2][:len(h0)], h[3][:len(h0)]
+	var s0, s1, s2, s3 float64
+	for r, c := range h0 {
+		ar := a[r*k : r*k+k]
+		s0 += ar[c]
+		s1 += ar[h1[r]]
+		s2 += ar[h2[r]]
+		s3 += ar[h3[r]]
+	}
+	for j, s := range []float64{s0, s1, s2, s3}[:len(vs)] {
+		g[vs[j]] = s
+	}
+}
+
+// cellSums writes into sums[c*k+j] the sum of a[r*k+j] over the rows r of
+// cell c, in row order.
+func cellSums(sums []float64, cellOf []uint16, a []float64, k int) {
+	clear(sums)
+	if k == 2 {
+		a = a[:2*len(cellOf)]
+		for r, c := range cellOf {
+			s := sums[2*int(c) : 2*int(c)+2 : 2*int(c)+2]
+			s[0] += a[2*r]
+			s[1] += a[2*r+1]
+		}
+		return
+	}
+	for r, c := range cellOf {
+		s := sums[int(c)*k : int(c)*k+k : int(c)*k+k]
+		for j, v := range a[r*k : r*k+k] {
+			s[j] += v
+		}
+	}
 }

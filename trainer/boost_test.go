@@ -1,6 +1,7 @@
 package trainer
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -164,6 +165,62 @@ func TestBoostStepMinimises(t *testing.T) {
 			}
 			if tc.lo > math.Inf(-1) && step < tc.lo {
 				t.Errorf("step %v below the limit %v", step, tc.lo)
+			}
+		})
+	}
+}
+
+// BenchmarkBoostWeights times the boosted vote's fit on the shape the
+// trainer gives it at 200,000 rows of 50 numeric columns: a sample of
+// 6,000 prior rows, 32 threshold stumps a column and 33 linear voters
+// (voters beyond the CV budget, so every round up to boostRounds runs).
+func BenchmarkBoostWeights(b *testing.B) {
+	for _, k := range []int{2, 3} {
+		b.Run(fmt.Sprintf("classes=%d", k), func(b *testing.B) {
+			const rows, cols, cuts, linear = 6000, 50, 32, 33
+			rng := rand.New(rand.NewPCG(3, 4))
+			y := make([]int, rows)
+			x := make([][]float64, cols)
+			for j := range x {
+				x[j] = make([]float64, rows)
+				for r := range x[j] {
+					x[j][r] = rng.NormFloat64()
+				}
+			}
+			for r := range y {
+				s := x[0][r] + 0.5*x[1][r] - 0.3*x[2][r] + rng.NormFloat64()
+				y[r] = min(k-1, int(max(0, s+float64(k)/2)))
+			}
+			var votes [][]uint8
+			var groups [][]int
+			for j := range cols {
+				var g []int
+				for c := range cuts {
+					cut := -2 + 4*float64(c)/cuts
+					v := make([]uint8, rows)
+					for r := range v {
+						if x[j][r] > cut {
+							v[r] = uint8((c + 1) % k)
+						} else {
+							v[r] = uint8(c % k)
+						}
+					}
+					g = append(g, len(votes))
+					votes = append(votes, v)
+				}
+				groups = append(groups, g)
+			}
+			for range linear {
+				v := make([]uint8, rows)
+				for r := range v {
+					v[r] = uint8(min(k-1, int(max(0, x[rng.IntN(cols)][r]+float64(k)/2))))
+				}
+				groups = append(groups, []int{len(votes)})
+				votes = append(votes, v)
+			}
+			b.ResetTimer()
+			for range b.N {
+				boostWeights(votes, y, k, groups, 1)
 			}
 		})
 	}
