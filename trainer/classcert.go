@@ -1,7 +1,6 @@
 package trainer
 
 import (
-	"fmt"
 	"math"
 
 	"surety/objective"
@@ -88,8 +87,8 @@ func candidateVotes(fams []Family) int {
 }
 
 // classCertificates computes the per-class certificates of the shipped
-// vote v at the ledger share given; classVoterErrs returns, for the
-// posterior, each voter's errors among class c's certify rows.
+// vote v at the ledger share given; for the posterior, p.classErrs holds
+// each voter's errors among class c's certify rows.
 func (p *Prepared) classCertificates(share float64, fams []Family, v shipVote, kl float64) (*ClassCertificates, error) {
 	k := len(p.t.Classes)
 	cc := &ClassCertificates{Delta: share, CandidateVotes: candidateVotes(fams)}
@@ -102,10 +101,7 @@ func (p *Prepared) classCertificates(share float64, fams []Family, v shipVote, k
 		case line.Rows == 0:
 			line.Reason = "no certify row of this class"
 		case v.vote == VotePosterior:
-			errs, cerr := p.classVoterErrs(c)
-			if cerr != nil {
-				return nil, cerr
-			}
+			errs := p.classErrs[c]
 			var g float64
 			for i, q := range v.q {
 				g += q * float64(errs[i])
@@ -125,28 +121,6 @@ func (p *Prepared) classCertificates(share float64, fams []Family, v shipVote, k
 		cc.Classes = append(cc.Classes, line)
 	}
 	return cc, nil
-}
-
-// classVoterErrs returns each voter's errors among class c's certify rows,
-// counted once per Prepared.
-func (p *Prepared) classVoterErrs(c int) ([]int64, error) {
-	if p.classErrs == nil {
-		p.classErrs = make([][]int64, len(p.t.Classes))
-	}
-	if p.classErrs[c] == nil {
-		var rows []int
-		for _, r := range p.certRows {
-			if p.t.Label[r] == c {
-				rows = append(rows, r)
-			}
-		}
-		s, err := p.pool.Count(p.t, rows)
-		if err != nil {
-			return nil, fmt.Errorf("trainer: per-class statistics: %w", err)
-		}
-		p.classErrs[c] = s.Errors
-	}
-	return p.classErrs[c], nil
 }
 
 // costCertificate computes the cost certificate of the shipped vote v at

@@ -64,6 +64,8 @@ type Prepared struct {
 	kindChanges         []datasets.KindChange
 	priorRates          rates
 	certRates           rates
+	// certKnown holds the linear voters' classes on the certify rows.
+	certKnown *voters.Known
 	// holdFits keeps the prior-rows fits by objective and trade-off: the
 	// prior kind does not enter them, so a sweep over priors reuses them.
 	holdFits map[Setting][]float64
@@ -71,9 +73,8 @@ type Prepared struct {
 	// (the boosted vote, the full linear voter alone), fixed on the prior
 	// rows, with their certify-row errors and margins.
 	fixed []shipVote
-	// certClassRows counts the certify rows of each class; classErrs, once
-	// a posterior ships, each voter's errors among each class's certify
-	// rows (classVoterErrs).
+	// certClassRows counts the certify rows of each class; classErrs
+	// holds each voter's errors among each class's certify rows.
 	certClassRows []int
 	classErrs     [][]int64
 	// costs is Config.Costs in the order of the table's classes, or nil.
@@ -161,9 +162,25 @@ func Prepare(ctx context.Context, t *datasets.Table, cfg Config) (*Prepared, err
 		y[r] = t.Label[row]
 	}
 	p.priorRates = honestRates(votes, y, p.oobMasks(sample))
-	certStats, err := p.pool.Count(t, p.certRows)
+	// The linear voters' classes on the certify rows, worked out once for
+	// the counts and every vote scored on them.
+	if p.certKnown, err = p.pool.Remember(t, p.certRows); err != nil {
+		return nil, fmt.Errorf("trainer: %w", err)
+	}
+	certStats, err := p.pool.CountKnown(p.certKnown)
 	if err != nil {
 		return nil, fmt.Errorf("trainer: %w", err)
+	}
+	// Each voter's errors among each class's certify rows, for the
+	// per-class certificates, come from the same pass (the pool's classes
+	// are the table's, in its order).
+	k := len(t.Classes)
+	p.classErrs = make([][]int64, k)
+	for c := range k {
+		p.classErrs[c] = make([]int64, len(p.pool.Voters))
+		for i := range p.pool.Voters {
+			p.classErrs[c][i] = certStats.ClassErrors[i*k+c]
+		}
 	}
 	p.certRates = ratesOf(certStats)
 	if err := ctx.Err(); err != nil {
@@ -453,7 +470,7 @@ func (f *fitted) ship(p *Prepared, cert Certificate) error {
 func (p *Prepared) score(vote string, w []float64) (shipVote, error) {
 	s := shipVote{vote: vote, q: w, classErrs: make([]int, len(p.t.Classes))}
 	v := &voters.Vote{Voters: p.pool.Voters, Weights: w, Classes: p.pool.Classes}
-	cls, margins, err := v.Predict(p.t, p.certRows)
+	cls, margins, err := v.PredictKnown(p.certKnown)
 	if err != nil {
 		return s, fmt.Errorf("trainer: %w", err)
 	}

@@ -55,6 +55,9 @@ type sideVoter struct {
 type restVoter struct {
 	vi int
 	v  Voter
+	// known, when set, holds the voter's class on each row of the rows
+	// the plan evaluates, in their order (see Known).
+	known []uint8
 }
 
 // newPlan groups the voters vs (bound to t), keeping those with keep[i]
@@ -117,9 +120,17 @@ func newPlan(vs []Voter, keep []bool, k int, labels []int) *plan {
 			grp.levels[c].stumps = append(grp.levels[c].stumps, sideVoter{vi, s.Equal, s.Other, s.MissingEqual})
 			continue
 		}
-		p.rest = append(p.rest, restVoter{vi, v})
+		p.rest = append(p.rest, restVoter{vi: vi, v: v})
 	}
 	return p
+}
+
+// useKnown makes the rest voters whose classes known holds take them
+// from it; the plan must then evaluate known's rows, in their order.
+func (p *plan) useKnown(known *Known) {
+	for i, rv := range p.rest {
+		p.rest[i].known = known.classes[rv.v]
+	}
 }
 
 // sink receives the evaluation of one panel: a split voter as the bit set
@@ -132,6 +143,9 @@ type sink interface {
 // scratch is one goroutine's panel buffers.
 type scratch struct {
 	rows []int
+	// base is the position of the panel's first row among the rows being
+	// evaluated, where a rest voter's known classes start.
+	base int
 	lab  []int32
 	// labMask holds panelWords words per class: the rows of that class.
 	labMask []uint64
@@ -217,6 +231,13 @@ func (p *plan) eval(s *scratch, out sink) {
 	}
 	pred := s.pred[:len(s.rows)]
 	for _, rv := range p.rest {
+		if rv.known != nil {
+			for i, c := range rv.known[s.base : s.base+len(pred)] {
+				pred[i] = int32(c)
+			}
+			out.classes(rv.vi, pred)
+			continue
+		}
 		for i, r := range s.rows {
 			pred[i] = int32(rv.v.Predict(r))
 		}

@@ -21,6 +21,9 @@ type Stats struct {
 	// Joint is the n x n row-major matrix of joint errors: Joint[i*n+j]
 	// rows where voters i and j both err; Joint[i*n+i] == Errors[i].
 	Joint []int64
+	// ClassErrors[i*k+c], k the pool's classes, is the number of rows of
+	// class c (the pool's class index) that voter i gets wrong.
+	ClassErrors []int64
 }
 
 // N returns the number of voters.
@@ -28,7 +31,7 @@ func (s *Stats) N() int { return len(s.Errors) }
 
 // Merge adds the statistics of o, counted on rows disjoint from s's, to s.
 func (s *Stats) Merge(o *Stats) error {
-	if len(o.Errors) != len(s.Errors) || len(o.Joint) != len(s.Joint) {
+	if len(o.Errors) != len(s.Errors) || len(o.Joint) != len(s.Joint) || len(o.ClassErrors) != len(s.ClassErrors) {
 		return fmt.Errorf("voters: merge stats of %d voters into stats of %d", len(o.Errors), len(s.Errors))
 	}
 	s.M += o.M
@@ -37,6 +40,9 @@ func (s *Stats) Merge(o *Stats) error {
 	}
 	for i, e := range o.Joint {
 		s.Joint[i] += e
+	}
+	for i, e := range o.ClassErrors {
+		s.ClassErrors[i] += e
 	}
 	return nil
 }
@@ -82,6 +88,16 @@ const countMemory = 256 << 20
 // every pair's joint errors. The counts do not depend on the order of rows
 // nor on GOMAXPROCS.
 func (p *Pool) Count(t *datasets.Table, rows []int) (*Stats, error) {
+	return p.count(t, rows, nil)
+}
+
+// CountKnown is Count on the table and rows of known, taking the classes
+// known holds instead of working them out: the same counts.
+func (p *Pool) CountKnown(known *Known) (*Stats, error) {
+	return p.count(known.t, known.rows, known)
+}
+
+func (p *Pool) count(t *datasets.Table, rows []int, known *Known) (*Stats, error) {
 	if err := checkRows(t, rows); err != nil {
 		return nil, fmt.Errorf("voters: count: %w", err)
 	}
@@ -94,7 +110,16 @@ func (p *Pool) Count(t *datasets.Table, rows []int) (*Stats, error) {
 	if err != nil {
 		return nil, fmt.Errorf("voters: count: %w", err)
 	}
-	return count(newPlan(p.Voters, nil, len(p.Classes), labels), len(p.Voters), rows), nil
+	pl := newPlan(p.Voters, nil, len(p.Classes), labels)
+	if !slices.IsSorted(rows) {
+		// The counts ignore row order; sorted rows read the columns in
+		// order (and no longer line up with known's classes).
+		rows = slices.Clone(rows)
+		slices.Sort(rows)
+	} else if known != nil {
+		pl.useKnown(known)
+	}
+	return count(pl, len(p.Voters), rows), nil
 }
 
 // rowClasses returns the pool class of each row of t.
@@ -113,23 +138,25 @@ func rowClasses(classes []string, t *datasets.Table) ([]int, error) {
 	return out, nil
 }
 
+// count counts on rows, which must be sorted.
 func count(pl *plan, n int, rows []int) *Stats {
-	if !slices.IsSorted(rows) {
-		// The counts ignore row order; sorted rows read the columns in order.
-		rows = slices.Clone(rows)
-		slices.Sort(rows)
-	}
 	slot, comp, nb := pl.bases(n, rows)
 	nt := (nb + 3) / 4
 	tiles := nt * (nt + 1) / 2
 	panels := (len(rows) + panelRows - 1) / panelRows
 	workers := max(1, min(runtime.GOMAXPROCS(0), panels, countMemory/max(1, tiles*16*8)))
 	accs := make([][]int64, workers)
+	// Each base slot's errors among each class's rows: a popcount of its
+	// error bits under the class's rows, k words of work per slot and word
+	// where the pairs take nb.
+	k := pl.k
+	caccs := make([][]int64, workers)
 	var next atomic.Int64
 	var wg sync.WaitGroup
 	for wk := range workers {
 		wg.Go(func() {
 			acc := make([]int64, tiles*16)
+			cacc := make([]int64, nb*k)
 			s := newScratch(pl.k)
 			es := &errSink{s: s, slot: slot, comp: comp, errs: make([]uint64, nt*4*panelWords)}
 			for {
@@ -138,16 +165,27 @@ func count(pl *plan, n int, rows []int) *Stats {
 					break
 				}
 				pl.load(s, rows[i*panelRows:min(len(rows), (i+1)*panelRows)])
+				s.base = i * panelRows
 				pl.eval(s, es)
 				countTiles(es.errs, nt, s.words(), acc)
+				countClasses(es.errs, s.labMask, nb, k, s.words(), cacc)
 			}
-			accs[wk] = acc
+			accs[wk], caccs[wk] = acc, cacc
 		})
 	}
 	wg.Wait()
-	for _, a := range accs[1:] {
+	for wk, a := range accs[1:] {
 		for i, v := range a {
 			accs[0][i] += v
+		}
+		for i, v := range caccs[wk+1] {
+			caccs[0][i] += v
+		}
+	}
+	classRows := make([]int64, k)
+	if pl.labels != nil {
+		for _, r := range rows {
+			classRows[pl.labels[r]]++
 		}
 	}
 	acc := accs[0]
@@ -159,7 +197,7 @@ func count(pl *plan, n int, rows []int) *Stats {
 		return acc[(I*nt-I*(I-1)/2+J-I)*16+(a%4)*4+b%4]
 	}
 	m := int64(len(rows))
-	st := &Stats{M: len(rows), Errors: make([]int64, n), Joint: make([]int64, n*n)}
+	st := &Stats{M: len(rows), Errors: make([]int64, n), Joint: make([]int64, n*n), ClassErrors: make([]int64, n*k)}
 	for i := range n {
 		a := slot[i]
 		ea := base(a, a)
@@ -177,8 +215,31 @@ func count(pl *plan, n int, rows []int) *Stats {
 			st.Joint[i*n+j], st.Joint[j*n+i] = t, t
 		}
 		st.Errors[i] = st.Joint[i*n+i]
+		for c := range k {
+			e := caccs[0][slot[i]*k+c]
+			if comp[i] {
+				e = classRows[c] - e
+			}
+			st.ClassErrors[i*k+c] = e
+		}
 	}
 	return st
+}
+
+// countClasses adds to acc[b*k+c] the rows of class c among the error bits
+// of each of the nb base slots, over the panel's nw words.
+func countClasses(errs, labMask []uint64, nb, k, nw int, acc []int64) {
+	for b := range nb {
+		e := errs[b*panelWords : b*panelWords+nw]
+		for c := range k {
+			lm := labMask[c*panelWords : c*panelWords+nw]
+			var sum int
+			for w, x := range e {
+				sum += bits.OnesCount64(x & lm[w])
+			}
+			acc[b*k+c] += int64(sum)
+		}
+	}
 }
 
 // bases picks the voters whose error bits a pass computes: with two

@@ -61,7 +61,8 @@ func naiveStats(vs []Voter, t *datasets.Table, rows []int) *Stats {
 			wrong[i][r] = v.Predict(row) != t.Label[row]
 		}
 	}
-	s := &Stats{M: len(rows), Errors: make([]int64, n), Joint: make([]int64, n*n)}
+	k := len(t.Classes)
+	s := &Stats{M: len(rows), Errors: make([]int64, n), Joint: make([]int64, n*n), ClassErrors: make([]int64, n*k)}
 	for i := range n {
 		for j := range n {
 			for r := range rows {
@@ -71,6 +72,11 @@ func naiveStats(vs []Voter, t *datasets.Table, rows []int) *Stats {
 			}
 		}
 		s.Errors[i] = s.Joint[i*n+i]
+		for r, row := range rows {
+			if wrong[i][r] {
+				s.ClassErrors[i*k+t.Label[row]]++
+			}
+		}
 	}
 	return s
 }
@@ -85,6 +91,9 @@ func sameStats(t *testing.T, what string, got, want *Stats) {
 			}
 		}
 		t.Fatalf("%s: M = %d, errors %v; want M = %d, errors %v", what, got.M, got.Errors, want.M, want.Errors)
+	}
+	if !slices.Equal(got.ClassErrors, want.ClassErrors) {
+		t.Fatalf("%s: errors by class %v, want %v", what, got.ClassErrors, want.ClassErrors)
 	}
 }
 
@@ -139,6 +148,20 @@ func TestCountMatchesNaive(t *testing.T) {
 					t.Fatal(err)
 				}
 				sameStats(t, fmt.Sprintf("GOMAXPROCS=%d", procs), got, want)
+			}
+			// With the linear voters' classes remembered: on the shuffled
+			// rows (which Count sorts, setting them aside) and sorted ones.
+			sorted := slices.Sorted(slices.Values(rows))
+			for name, rs := range map[string][]int{"shuffled": rows, "sorted": sorted} {
+				known, err := pool.Remember(tab, rs)
+				if err != nil {
+					t.Fatal(err)
+				}
+				got, err := pool.CountKnown(known)
+				if err != nil {
+					t.Fatal(err)
+				}
+				sameStats(t, "remembered, "+name+" rows", got, want)
 			}
 			half := len(rows) / 3
 			a, err := pool.Count(tab, rows[:half])

@@ -45,7 +45,14 @@ func (v *Vote) Bind(t *datasets.Table) error {
 // Predict returns the vote's class for each of rows of t, and its margin:
 // the winning class's total weight minus the runner-up's.
 func (v *Vote) Predict(t *datasets.Table, rows []int) (classes []int, margins []float64, err error) {
-	return v.predict(t, rows, nil)
+	return v.predict(t, rows, nil, nil)
+}
+
+// PredictKnown is Predict on the table and rows of known, taking the
+// classes of the voters known holds from it instead of working them out:
+// the same classes and margins, to the bit.
+func (v *Vote) PredictKnown(known *Known) (classes []int, margins []float64, err error) {
+	return v.predict(known.t, known.rows, nil, known)
 }
 
 // PredictTotals is Predict that also returns each row's class totals, k a
@@ -54,7 +61,7 @@ func (v *Vote) Predict(t *datasets.Table, rows []int) (classes []int, margins []
 // come.
 func (v *Vote) PredictTotals(t *datasets.Table, rows []int) (classes []int, margins, totals []float64, err error) {
 	totals = make([]float64, len(rows)*len(v.Classes))
-	classes, margins, err = v.predict(t, rows, totals)
+	classes, margins, err = v.predict(t, rows, totals, nil)
 	if err != nil {
 		return nil, nil, nil, err
 	}
@@ -62,8 +69,8 @@ func (v *Vote) PredictTotals(t *datasets.Table, rows []int) (classes []int, marg
 }
 
 // predict is Predict, copying the class totals into totals unless it is
-// nil.
-func (v *Vote) predict(t *datasets.Table, rows []int, totals []float64) (classes []int, margins []float64, err error) {
+// nil, and taking the classes known holds (of these rows) unless it is nil.
+func (v *Vote) predict(t *datasets.Table, rows []int, totals []float64, known *Known) (classes []int, margins []float64, err error) {
 	if err := checkCells(t, rows); err != nil {
 		return nil, nil, fmt.Errorf("voters: predict: %w", err)
 	}
@@ -76,6 +83,9 @@ func (v *Vote) predict(t *datasets.Table, rows []int, totals []float64) (classes
 		keep[i] = w != 0
 	}
 	pl := newPlan(v.Voters, keep, k, nil)
+	if known != nil {
+		pl.useKnown(known)
+	}
 	classes = make([]int, len(rows))
 	margins = make([]float64, len(rows))
 	panels := (len(rows) + panelRows - 1) / panelRows
@@ -85,6 +95,7 @@ func (v *Vote) predict(t *datasets.Table, rows []int, totals []float64) (classes
 		return func(i int) {
 			lo, hi := i*panelRows, min(len(rows), (i+1)*panelRows)
 			pl.load(s, rows[lo:hi])
+			s.base = lo
 			clear(ss.scores)
 			pl.eval(s, ss)
 			for r := range hi - lo {

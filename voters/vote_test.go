@@ -183,3 +183,51 @@ func TestPredictTotals(t *testing.T) {
 		}
 	}
 }
+
+// TestPredictKnown checks that a vote predicts the same classes and
+// margins, to the bit, with the linear voters' classes remembered as when
+// it works them out, on rows in any order and over several panels.
+func TestPredictKnown(t *testing.T) {
+	rng := rand.New(rand.NewPCG(35, 36))
+	tab := randomTable(rng, 14000, 3, 0.05)
+	perm := rng.Perm(tab.Rows)
+	eight := 8
+	p, err := BuildPool(tab, perm[:2000], PoolConfig{Thresholds: 5, LinearVoters: &eight}, rand.New(rand.NewPCG(1, 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := make([]float64, len(p.Voters))
+	for i := range w {
+		if rng.IntN(4) > 0 {
+			w[i] = rng.Float64()
+		}
+	}
+	v := &Vote{Voters: p.Voters, Weights: w, Classes: p.Classes}
+	tests := []struct {
+		name string
+		rows []int
+	}{
+		{"shuffled, several panels", perm[2000:]},
+		{"sorted, several panels", slices.Sorted(slices.Values(perm[2000:]))},
+		{"one partial panel", perm[2000:2100]},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			known, err := p.Remember(tab, tc.rows)
+			if err != nil {
+				t.Fatal(err)
+			}
+			wantC, wantM, err := v.Predict(tab, tc.rows)
+			if err != nil {
+				t.Fatal(err)
+			}
+			gotC, gotM, err := v.PredictKnown(known)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !slices.Equal(gotC, wantC) || !slices.Equal(gotM, wantM) {
+				t.Fatal("classes or margins differ with the linear voters' classes remembered")
+			}
+		})
+	}
+}
