@@ -19,6 +19,24 @@ import (
 type Problem struct {
 	Func func(q []float64) float64
 	Grad func(grad, q []float64)
+	// Segment, when not nil, cuts the objective along the segment from q
+	// to c for a line search: it makes the one product with the joint
+	// matrix the second point needs (q's is kept from the last Func or
+	// Grad at q), after which every point of the line costs O(n). It is
+	// set for the objectives that read the joint matrix, whose Func
+	// otherwise costs an n x n product.
+	Segment func(q, c []float64) Segment
+}
+
+// Segment is an objective along the line x(alpha) = q + alpha (c - q).
+type Segment struct {
+	// Value returns the objective at x(alpha); alpha must keep x(alpha)
+	// on the simplex.
+	Value func(alpha float64) float64
+	// Move writes x(alpha) into dst and keeps its product with the joint
+	// matrix, (1 - alpha) J q + alpha J c up to rounding, as that of the
+	// point dst holds, so that Func and Grad there need no product.
+	Move func(dst []float64, alpha float64)
 }
 
 // surface is a bound as a function of the three empirical figures r(Q),
@@ -53,8 +71,38 @@ func problemOf(risks, joint, prior []float64, f surface, err error) (Problem, er
 		v, dr, dt, dkl = f(r, t, Divergence(q, prior))
 		return v, dr, dt, dkl, jq
 	}
+	var segment func(q, c []float64) Segment
+	if joint != nil {
+		segment = func(q, c []float64) Segment {
+			jq, jc := memo.product(q), memo.product(c)
+			x, jx := make([]float64, len(q)), make([]float64, len(q))
+			at := func(alpha float64) {
+				for i := range x {
+					x[i] = q[i] + alpha*(c[i]-q[i])
+					jx[i] = jq[i] + alpha*(jc[i]-jq[i])
+				}
+			}
+			return Segment{
+				Value: func(alpha float64) float64 {
+					at(alpha)
+					var r float64
+					if risks != nil {
+						r = GibbsRisk(x, risks)
+					}
+					v, _, _, _ := f(r, floats.Dot(x, jx), Divergence(x, prior))
+					return v
+				},
+				Move: func(dst []float64, alpha float64) {
+					at(alpha)
+					copy(dst, x)
+					memo.keep(x, jx)
+				},
+			}
+		}
+	}
 	return Problem{
-		Func: func(q []float64) float64 { v, _, _, _, _ := eval(q); return v },
+		Segment: segment,
+		Func:    func(q []float64) float64 { v, _, _, _, _ := eval(q); return v },
 		Grad: func(grad, q []float64) {
 			if len(grad) != len(prior) || len(q) != len(prior) {
 				fillNaN(grad)
@@ -114,6 +162,14 @@ func (m *jqMemo) product(q []float64) []float64 {
 		}
 	}
 	return slices.Clone(m.jq)
+}
+
+// keep makes jq the product kept for q.
+func (m *jqMemo) keep(q, jq []float64) {
+	m.mu.Lock()
+	defer m.mu.Unlock()
+	m.q = append(m.q[:0], q...)
+	m.jq = append(m.jq[:0], jq...)
 }
 
 // productShare is the fewest multiply-adds of J q per goroutine.

@@ -301,3 +301,59 @@ func must(t *testing.T) func(Problem, error) Problem {
 		return p
 	}
 }
+
+// TestSegment checks the line cut of each objective that reads the joint
+// matrix against Func at the point itself: x(alpha) = q + alpha (c - q)
+// is a point of the simplex and J x(alpha) = (1 - alpha) J q + alpha J c
+// (linearity of the product; common practice, no source), so the two
+// agree to rounding; and after Move, Func and Grad at the point agree
+// with a fresh problem's. The objectives without a joint matrix have no
+// Segment.
+func TestSegment(t *testing.T) {
+	rng := rand.New(rand.NewPCG(15, 16))
+	const n, m = 9, 500
+	risks, joint, prior, q := simStats(rng, n, m, 0.2)
+	c := simplexPoint(rng, n)
+	tests := []struct {
+		name    string
+		make    func() (Problem, error)
+		segment bool
+	}{
+		{"linear", func() (Problem, error) { return LinearObjective(risks, prior, m, 1.5) }, false},
+		{"first order", func() (Problem, error) { return KLObjective(risks, prior, m, 0.05) }, false},
+		{"tandem", func() (Problem, error) { return TandemObjective(joint, prior, m, 0.05) }, true},
+		{"c-bound", func() (Problem, error) { return CBoundObjective(risks, joint, prior, m, 0.05) }, true},
+		{"chebyshev-cantelli", func() (Problem, error) { return ChebyshevCantelliObjective(risks, joint, prior, m, 0.05) }, true},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			prob, fresh := must(t)(tc.make()), must(t)(tc.make())
+			if (prob.Segment != nil) != tc.segment {
+				t.Fatalf("Segment set %v, want %v", prob.Segment != nil, tc.segment)
+			}
+			if !tc.segment {
+				return
+			}
+			prob.Func(q)
+			seg := prob.Segment(q, c)
+			x := make([]float64, n)
+			for _, a := range []float64{0, 0.25, 0.5, 1} {
+				for i := range x {
+					x[i] = q[i] + a*(c[i]-q[i])
+				}
+				if got, want := seg.Value(a), fresh.Func(x); math.Abs(got-want) > 1e-12*math.Max(1, math.Abs(want)) {
+					t.Errorf("Value(%v) = %v, Func there %v", a, got, want)
+				}
+			}
+			seg.Move(x, 0.5)
+			g, want := make([]float64, n), make([]float64, n)
+			prob.Grad(g, x)
+			fresh.Grad(want, x)
+			for i := range g {
+				if math.Abs(g[i]-want[i]) > 1e-12*math.Max(1, math.Abs(want[i])) {
+					t.Errorf("after Move, gradient %d = %v, a fresh problem's %v", i, g[i], want[i])
+				}
+			}
+		})
+	}
+}

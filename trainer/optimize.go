@@ -19,7 +19,9 @@ type OptimizerResult struct {
 	Start      string  `json:"start"`
 	StartValue float64 `json:"start_value"`
 	Iterations int     `json:"iterations"`
-	// Polish counts the exponentiated-gradient steps tried after L-BFGS.
+	// Polish counts the exponentiated-gradient steps tried after L-BFGS
+	// (for an objective with a Segment, each step and the line search
+	// along its chord: one joint-matrix product).
 	Polish int `json:"polish_steps"`
 	// Evaluations counts objective evaluations.
 	Evaluations int `json:"evaluations"`
@@ -51,7 +53,8 @@ type startPoint struct {
 // Each candidate start is evaluated and the best finite one is used. A
 // short L-BFGS phase on softmax logits, q = softmax(x), at most 100
 // iterations, makes the large early moves; exponentiated-gradient steps
-// with a backtracking line search then finish, until the Frank-Wolfe gap
+// then finish (with a line search along the chord to the step's point when
+// the problem has a Segment, else backtracking on the step size), until the Frank-Wolfe gap
 // reaches GapTolerance or maxIter steps are spent (logits crawl in the tail,
 // where a logit's gradient is proportional to its weight; the multiplicative
 // steps do not). Only points of lower value ever replace the best one seen,
@@ -225,10 +228,12 @@ func fwGap(q, g []float64) float64 {
 	return dot - lo
 }
 
-// polish improves q in place by exponentiated-gradient steps with a
-// backtracking step size, keeping only steps that lower the value, until
-// no step lowers it or the Frank-Wolfe gap reaches GapTolerance;
-// it returns the number of steps tried and the gap at the end.
+// polish improves q in place by exponentiated-gradient steps, keeping only
+// steps that lower the value, until no step lowers it or the Frank-Wolfe
+// gap reaches GapTolerance; it returns the number of steps tried and the
+// gap at the end. Where prob has a Segment, a step searches the chord from
+// q to its point (chordSearch) and the step size follows the length kept;
+// otherwise it backtracks on the step size, each try a Func.
 func polish(prob objective.Problem, q []float64, val *float64, maxSteps int) (int, float64) {
 	n := len(q)
 	g := make([]float64, n)
@@ -258,6 +263,22 @@ func polish(prob objective.Problem, q []float64, val *float64, maxSteps int) (in
 		if gap = fwGap(q, g); step > 0 && gap <= GapTolerance*math.Max(1, math.Abs(*val)) {
 			break
 		}
+		if prob.Segment != nil {
+			// One product a step: the exponentiated-gradient point fixes
+			// a direction, and the line search along the chord to it
+			// costs O(n) a point.
+			tries++
+			expStep(cand, q, g, eta)
+			seg := prob.Segment(q, cand)
+			a, v := chordSearch(seg.Value, maxChord(q, cand), *val)
+			if a == 0 {
+				break
+			}
+			seg.Move(q, a)
+			*val = v
+			eta *= a
+			continue
+		}
 		improved := false
 		for k := 0; k < 40; k++ {
 			tries++
@@ -280,6 +301,49 @@ func polish(prob objective.Problem, q []float64, val *float64, maxSteps int) (in
 		gap = fwGap(q, g)
 	}
 	return tries, gap
+}
+
+// maxChord returns how far along q + alpha (c - q) the weights stay
+// positive: the least q_i / (q_i - c_i) over the weights c lowers (+Inf
+// when it lowers none).
+func maxChord(q, c []float64) float64 {
+	amax := math.Inf(1)
+	for i := range q {
+		if c[i] < q[i] {
+			amax = math.Min(amax, q[i]/(q[i]-c[i]))
+		}
+	}
+	return amax
+}
+
+// chordSearch returns a step alpha in (0, 0.99 amax] with phi(alpha) < v0
+// and phi there, or 0 and v0 when halving from 1 forty times finds none:
+// from 1 it doubles while the value keeps falling, else halves until it
+// falls (a backtracking search on a convex function of alpha along the
+// chord; common practice, no source).
+func chordSearch(phi func(float64) float64, amax, v0 float64) (float64, float64) {
+	lim := 0.99 * amax
+	a := math.Min(1, lim)
+	if v := phi(a); v < v0 {
+		for range 30 {
+			if 2*a > lim {
+				break
+			}
+			w := phi(2 * a)
+			if !(w < v) {
+				break
+			}
+			a, v = 2*a, w
+		}
+		return a, v
+	}
+	for range 40 {
+		a /= 2
+		if v := phi(a); v < v0 {
+			return a, v
+		}
+	}
+	return 0, v0
 }
 
 // expStep writes q exp(-eta g), normalised, into dst, in log space.
