@@ -368,11 +368,7 @@ func FitLinear(t *datasets.Table, scale, rows []int, columns []string, l2 float6
 					mx = scores[c]
 				}
 			}
-			var z float64
-			for _, s := range scores {
-				z += math.Exp(s - mx)
-			}
-			lz := mx + math.Log(z)
+			lz := logSumExp(scores, mx)
 			f += lz - scores[y]
 			for c := first; c < k; c++ {
 				g := math.Exp(scores[c] - lz)

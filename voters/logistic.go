@@ -194,9 +194,19 @@ func (lg *logistic) scores(p, xr, scores []float64) float64 {
 		scores[c] = s
 		mx = max(mx, s)
 	}
+	return logSumExp(scores, mx)
+}
+
+// logSumExp returns ln sum_c e^scores[c], given mx, the largest score;
+// exp(0) is 1 exactly, so the largest score needs no exp.
+func logSumExp(scores []float64, mx float64) float64 {
 	var z float64
 	for _, s := range scores {
-		z += math.Exp(s - mx)
+		e := 1.0
+		if v := s - mx; v != 0 {
+			e = math.Exp(v)
+		}
+		z += e
 	}
 	return mx + math.Log(z)
 }
