@@ -298,11 +298,18 @@ func FitLinear(t *datasets.Table, scale, rows []int, columns []string, l2 float6
 			return nil, fmt.Errorf("voters: fit linear: column %q is not in %s", name, source(t))
 		}
 	}
+	return fitLinear(t, standardise(t, scale, idx), rows, columns, l2)
+}
+
+// fitLinear is FitLinear with the inputs' standardisation given (each
+// column's is its own, so a caller fitting many voters on the same scale
+// rows works out each column's once).
+func fitLinear(t *datasets.Table, inputs []LinearInput, rows []int, columns []string, l2 float64) (*Linear, error) {
 	k := len(t.Classes)
 	if k < 2 {
 		return nil, fmt.Errorf("voters: fit linear: %d classes in %s, want at least 2", k, source(t))
 	}
-	l := &Linear{Inputs: standardise(t, scale, idx)}
+	l := &Linear{Inputs: inputs}
 	if err := l.Bind(t); err != nil {
 		return nil, fmt.Errorf("voters: fit linear: %w", err)
 	}

@@ -286,15 +286,26 @@ func FitLinearCV(t *datasets.Table, scale, rows []int, cfg LinearCVConfig, rng *
 	res.Voter = l
 
 	res.OutOfFold = make([]int, len(rows))
-	j := 0 // position in fit, which is in the order of rows
+	var rest []int // positions in rows of the rows outside fit
+	j := 0         // position in fit, which is in the order of rows
 	for i, r := range rows {
 		if j < len(fit) && fit[j] == r {
 			res.OutOfFold[i] = bestPred[j]
 			j++
 			continue
 		}
-		res.OutOfFold[i] = l.Predict(r)
+		rest = append(rest, i)
 	}
+	// The rows beyond the fit sample (most of them on a large file) are
+	// predicted over goroutines, each row on its own.
+	const block = 4096
+	parallelFor((len(rest)+block-1)/block, func() func(int) {
+		return func(b int) {
+			for _, i := range rest[b*block : min(len(rest), (b+1)*block)] {
+				res.OutOfFold[i] = l.Predict(rows[i])
+			}
+		}
+	})
 	return res, nil
 }
 

@@ -273,11 +273,30 @@ func BuildPool(t *datasets.Table, rows []int, cfg PoolConfig, rng *rand.Rand) (*
 			}
 			jobs[li] = job{names, sample, oob}
 		}
+		// Each column's standardisation (its mean and scale over the prior
+		// rows, or its levels), worked out once for all the voters.
+		scaled := make(map[string]LinearInput, len(usable))
+		perInput := make([][]LinearInput, len(usable))
+		parallelFor(len(usable), func() func(int) {
+			return func(u int) { perInput[u] = standardise(t, rows, usable[u:u+1]) }
+		})
+		for _, in := range perInput {
+			for _, li := range in {
+				scaled[li.Column] = li
+			}
+		}
 		fitted := make([]*Linear, linear)
 		errs := make([]error, linear)
 		parallelFor(linear, func() func(int) {
 			return func(li int) {
-				fitted[li], errs[li] = FitLinear(t, rows, jobs[li].sample, jobs[li].names, cfg.L2)
+				var inputs []LinearInput
+				for _, name := range jobs[li].names {
+					if in, ok := scaled[name]; ok {
+						in.Levels = slices.Clone(in.Levels)
+						inputs = append(inputs, in)
+					}
+				}
+				fitted[li], errs[li] = fitLinear(t, inputs, jobs[li].sample, jobs[li].names, cfg.L2)
 				step()
 			}
 		})
