@@ -326,15 +326,20 @@ func fitLinear(t *datasets.Table, inputs []LinearInput, rows []int, columns []st
 	stride := d + 1 // weights then intercept, per free class
 	n := float64(len(rows))
 	scores := make([]float64, k)
+	// The labels in the order of the design's rows: a bootstrap sample
+	// reads the table's labels out of order, once per row and evaluation.
+	ys := make([]int, len(rows))
+	for r, row := range rows {
+		ys[r] = t.Label[row]
+	}
 	// loss returns the objective and writes its gradient into grad.
 	loss := func(p, grad []float64) float64 {
 		for i := range grad {
 			grad[i] = 0
 		}
 		var f float64
-		for r, row := range rows {
+		for r, y := range ys {
 			xr := x[r*d : (r+1)*d]
-			y := t.Label[row]
 			if k == 2 {
 				// Two classes: class 0's score is 0, so the log-sum-exp is
 				// softplus(s) = max(s, 0) + log1p(e^-|s|) and class 1's
