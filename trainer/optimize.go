@@ -54,10 +54,10 @@ type startPoint struct {
 // short L-BFGS phase on softmax logits, q = softmax(x), at most 100
 // iterations, makes the large early moves; exponentiated-gradient steps
 // then finish (with a line search along the chord to the step's point when
-// the problem has a Segment, else backtracking on the step size), until the Frank-Wolfe gap
-// reaches GapTolerance or maxIter steps are spent (logits crawl in the tail,
-// where a logit's gradient is proportional to its weight; the multiplicative
-// steps do not). Only points of lower value ever replace the best one seen,
+// the problem has a Segment, else backtracking on the step size), until
+// the Frank-Wolfe gap reaches GapTolerance or maxIter steps are spent
+// (logits crawl in the tail, where a logit's gradient is proportional to
+// its weight; the multiplicative steps do not). Only points of lower value ever replace the best one seen,
 // so the result is never worse than any candidate.
 func minimizeSimplex(prob objective.Problem, starts []startPoint, maxIter int) ([]float64, OptimizerResult, error) {
 	best := -1
