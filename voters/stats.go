@@ -86,8 +86,7 @@ const countMemory = 256 << 20
 // Count evaluates the pool on rows of t (binding it to t first when it is
 // bound to another table) and counts, in one pass, every voter's errors (in
 // all and by class) and every pair's joint errors. The counts do not
-// depend on the order of rows
-// nor on GOMAXPROCS.
+// depend on the order of rows nor on GOMAXPROCS.
 func (p *Pool) Count(t *datasets.Table, rows []int) (*Stats, error) {
 	return p.count(t, rows, nil)
 }
