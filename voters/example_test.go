@@ -101,6 +101,44 @@ func ExampleVote_Predict() {
 	// errors: 0
 }
 
+func ExamplePool_Remember() {
+	t := loans()
+	prior, certify := []int{0, 2, 4, 6}, []int{1, 3, 5, 7}
+	one := 1
+	pool, err := voters.BuildPool(t, prior, voters.PoolConfig{Thresholds: 2, LinearVoters: &one, NoFullLinear: true}, rand.New(rand.NewPCG(1, 2)))
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	// The linear voter's classes on the certify rows, worked out once for
+	// the counts and for every vote predicted there.
+	known, err := pool.Remember(t, certify)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	stats, err := pool.CountKnown(known)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	uniform := make([]float64, len(pool.Voters))
+	for i := range uniform {
+		uniform[i] = 1
+	}
+	vote := &voters.Vote{Voters: pool.Voters, Weights: uniform, Classes: pool.Classes}
+	classes, _, err := vote.PredictKnown(known)
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Println("voters:", len(pool.Voters), "certify rows:", stats.M)
+	fmt.Println("classes:", classes)
+	// Output:
+	// voters: 5 certify rows: 4
+	// classes: [0 1 1 1]
+}
+
 func ExampleMarshalVoters() {
 	data, err := voters.MarshalVoters([]voters.Voter{&voters.Stump{Column: "income", Threshold: 45, Below: 0, Above: 1}})
 	if err != nil {
