@@ -6,6 +6,8 @@ import (
 	"runtime"
 	"slices"
 	"testing"
+
+	"surety/datasets"
 )
 
 func nan() float64 { return math.NaN() }
@@ -64,26 +66,13 @@ func TestVoteTies(t *testing.T) {
 // TestVotePredictMatchesNaive compares the panel prediction with a
 // per-row sum in voter order, at several GOMAXPROCS.
 func TestVotePredictMatchesNaive(t *testing.T) {
-	rng := rand.New(rand.NewPCG(31, 32))
-	tab := randomTable(rng, 9000, 3, 0.05)
-	perm := rng.Perm(tab.Rows)
-	p, err := BuildPool(tab, perm[:2000], PoolConfig{Thresholds: 5}, rand.New(rand.NewPCG(1, 1)))
-	if err != nil {
-		t.Fatal(err)
-	}
-	w := make([]float64, len(p.Voters))
-	for i := range w {
-		if rng.IntN(4) > 0 {
-			w[i] = rng.Float64()
-		}
-	}
-	v := &Vote{Voters: p.Voters, Weights: w, Classes: p.Classes}
-	rows := perm[2000:]
+	tab, _, v, rows := sparseVote(t, 31, 9000, 2000, PoolConfig{Thresholds: 5})
+	w := v.Weights
 	wantErrs := 0
 	wantClass := make([]int, len(rows))
 	for i, r := range rows {
 		s := make([]float64, 3)
-		for j, vt := range p.Voters {
+		for j, vt := range v.Voters {
 			s[vt.Predict(r)] += w[j]
 		}
 		c, margin := winner(s)
@@ -144,21 +133,8 @@ func TestVoteErrorsBadInput(t *testing.T) {
 // the bit, and Predict's class and margin are the largest total and its
 // lead, at any GOMAXPROCS.
 func TestPredictTotals(t *testing.T) {
-	rng := rand.New(rand.NewPCG(33, 34))
-	tab := randomTable(rng, 3000, 3, 0.05)
-	perm := rng.Perm(tab.Rows)
-	p, err := BuildPool(tab, perm[:1000], PoolConfig{Thresholds: 5}, rand.New(rand.NewPCG(1, 1)))
-	if err != nil {
-		t.Fatal(err)
-	}
-	w := make([]float64, len(p.Voters))
-	for i := range w {
-		if rng.IntN(4) > 0 {
-			w[i] = rng.Float64()
-		}
-	}
-	v := &Vote{Voters: p.Voters, Weights: w, Classes: p.Classes}
-	rows := perm[1000:]
+	tab, p, v, rows := sparseVote(t, 33, 3000, 1000, PoolConfig{Thresholds: 5})
+	w := v.Weights
 	for _, procs := range []int{1, 2} {
 		old := runtime.GOMAXPROCS(procs)
 		classes, margins, totals, err := v.PredictTotals(tab, rows)
@@ -188,28 +164,15 @@ func TestPredictTotals(t *testing.T) {
 // margins, to the bit, with the linear voters' classes remembered as when
 // it works them out, on rows in any order and over several panels.
 func TestPredictKnown(t *testing.T) {
-	rng := rand.New(rand.NewPCG(35, 36))
-	tab := randomTable(rng, 14000, 3, 0.05)
-	perm := rng.Perm(tab.Rows)
 	eight := 8
-	p, err := BuildPool(tab, perm[:2000], PoolConfig{Thresholds: 5, LinearVoters: &eight}, rand.New(rand.NewPCG(1, 1)))
-	if err != nil {
-		t.Fatal(err)
-	}
-	w := make([]float64, len(p.Voters))
-	for i := range w {
-		if rng.IntN(4) > 0 {
-			w[i] = rng.Float64()
-		}
-	}
-	v := &Vote{Voters: p.Voters, Weights: w, Classes: p.Classes}
+	tab, p, v, rows := sparseVote(t, 35, 14000, 2000, PoolConfig{Thresholds: 5, LinearVoters: &eight})
 	tests := []struct {
 		name string
 		rows []int
 	}{
-		{"shuffled, several panels", perm[2000:]},
-		{"sorted, several panels", slices.Sorted(slices.Values(perm[2000:]))},
-		{"one partial panel", perm[2000:2100]},
+		{"shuffled, several panels", rows},
+		{"sorted, several panels", slices.Sorted(slices.Values(rows))},
+		{"one partial panel", rows[:100]},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
@@ -230,4 +193,27 @@ func TestPredictKnown(t *testing.T) {
 			}
 		})
 	}
+}
+
+// sparseVote draws, from one source seeded with seed, a three-class table
+// of n rows with 5% of its cells missing, a pool built with cfg on prior
+// of its rows in a random order, and a vote over the pool with about a
+// quarter of the weights 0; it returns them and the other rows, in that
+// order.
+func sparseVote(t *testing.T, seed uint64, n, prior int, cfg PoolConfig) (*datasets.Table, *Pool, *Vote, []int) {
+	t.Helper()
+	rng := rand.New(rand.NewPCG(seed, seed+1))
+	tab := randomTable(rng, n, 3, 0.05)
+	perm := rng.Perm(tab.Rows)
+	p, err := BuildPool(tab, perm[:prior], cfg, rand.New(rand.NewPCG(1, 1)))
+	if err != nil {
+		t.Fatal(err)
+	}
+	w := make([]float64, len(p.Voters))
+	for i := range w {
+		if rng.IntN(4) > 0 {
+			w[i] = rng.Float64()
+		}
+	}
+	return tab, p, &Vote{Voters: p.Voters, Weights: w, Classes: p.Classes}, perm[prior:]
 }
