@@ -16,25 +16,38 @@ func (p *Pool) Votes(t *datasets.Table, rows []int) ([][]uint8, error) {
 	if err := checkRows(t, rows); err != nil {
 		return nil, fmt.Errorf("voters: votes: %w", err)
 	}
+	if err := p.bindBytes(t); err != nil {
+		return nil, fmt.Errorf("voters: votes: %w", err)
+	}
+	return classColumns(p.Voters, rows), nil
+}
+
+// bindBytes checks that the pool's classes fit in a byte and binds it to
+// t unless it is bound there.
+func (p *Pool) bindBytes(t *datasets.Table) error {
 	if len(p.Classes) > 256 {
-		return nil, fmt.Errorf("voters: votes: %d classes, at most 256", len(p.Classes))
+		return fmt.Errorf("%d classes, at most 256", len(p.Classes))
 	}
 	if p.bound != t {
-		if err := p.Bind(t); err != nil {
-			return nil, fmt.Errorf("voters: votes: %w", err)
-		}
+		return p.Bind(t)
 	}
-	out := make([][]uint8, len(p.Voters))
-	parallelFor(len(p.Voters), func() func(int) {
+	return nil
+}
+
+// classColumns returns each voter's class on rows of the table it is bound
+// to, a byte a row, the voters over goroutines.
+func classColumns(vs []Voter, rows []int) [][]uint8 {
+	out := make([][]uint8, len(vs))
+	parallelFor(len(vs), func() func(int) {
 		return func(i int) {
-			v, col := p.Voters[i], make([]uint8, len(rows))
+			col := make([]uint8, len(rows))
 			for r, row := range rows {
-				col[r] = uint8(v.Predict(row))
+				col[r] = uint8(vs[i].Predict(row))
 			}
 			out[i] = col
 		}
 	})
-	return out, nil
+	return out
 }
 
 // Known holds the classes that a pool's voters other than stumps (its
@@ -56,28 +69,17 @@ func (p *Pool) Remember(t *datasets.Table, rows []int) (*Known, error) {
 	if err := checkCells(t, rows); err != nil {
 		return nil, fmt.Errorf("voters: remember: %w", err)
 	}
-	if len(p.Classes) > 256 {
-		return nil, fmt.Errorf("voters: remember: %d classes, at most 256", len(p.Classes))
-	}
-	if p.bound != t {
-		if err := p.Bind(t); err != nil {
-			return nil, fmt.Errorf("voters: remember: %w", err)
-		}
+	if err := p.bindBytes(t); err != nil {
+		return nil, fmt.Errorf("voters: remember: %w", err)
 	}
 	rest := newPlan(p.Voters, nil, len(p.Classes), nil).rest
-	k := &Known{t: t, rows: rows, classes: make(map[Voter][]uint8, len(rest))}
-	cols := make([][]uint8, len(rest))
-	parallelFor(len(rest), func() func(int) {
-		return func(i int) {
-			col := make([]uint8, len(rows))
-			for r, row := range rows {
-				col[r] = uint8(rest[i].v.Predict(row))
-			}
-			cols[i] = col
-		}
-	})
+	vs := make([]Voter, len(rest))
 	for i, rv := range rest {
-		k.classes[rv.v] = cols[i]
+		vs[i] = rv.v
+	}
+	k := &Known{t: t, rows: rows, classes: make(map[Voter][]uint8, len(rest))}
+	for i, col := range classColumns(vs, rows) {
+		k.classes[vs[i]] = col
 	}
 	return k, nil
 }
